@@ -1,0 +1,40 @@
+"""frameshift: winds and currents between rotating and inertial frames.
+
+Move observed velocities between the frame they were measured in and the
+frame the physics needs, and attribute the apparent accelerations a rotating
+frame adds, on xarray data with units and CF metadata kept.
+"""
+
+from frameshift.errors import (
+    ConventionError,
+    FrameError,
+    FrameshiftError,
+    FrameshiftWarning,
+    InputTypeError,
+    MissingInputError,
+    UnitsError,
+    UnsupportedInputError,
+)
+from frameshift.frames import EARTH, EARTH_SPHERE, Planet
+from frameshift.transforms import to_inertial, to_rotating
+
+__version__ = "0.1.0"
+
+from frameshift import accessor  # noqa: E402,F401  (registers ds.frameshift)
+
+__all__ = [
+    "EARTH",
+    "EARTH_SPHERE",
+    "ConventionError",
+    "FrameError",
+    "FrameshiftError",
+    "FrameshiftWarning",
+    "InputTypeError",
+    "MissingInputError",
+    "Planet",
+    "UnitsError",
+    "UnsupportedInputError",
+    "__version__",
+    "to_inertial",
+    "to_rotating",
+]
