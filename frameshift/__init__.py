@@ -20,7 +20,7 @@ from frameshift.transforms import to_inertial, to_rotating
 
 __version__ = "0.1.0"
 
-from frameshift import accessor  # noqa: E402,F401  (registers ds.frameshift)
+from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
 
 __all__ = [
     "EARTH",

@@ -48,9 +48,7 @@ def apply_kernel(
     )
     outputs = result if isinstance(result, tuple) else (result,)
     if dims_order is not None:
-        outputs = tuple(
-            o.transpose(*[d for d in dims_order if d in o.dims], ...) for o in outputs
-        )
+        outputs = tuple(o.transpose(*[d for d in dims_order if d in o.dims], ...) for o in outputs)
     return outputs if n_out > 1 else outputs[0]
 
 

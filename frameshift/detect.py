@@ -171,7 +171,9 @@ def _velocity_from_metadata(ds: xr.Dataset) -> VelocitySet:
     complete = {f: c for f, c in found.items() if "eastward" in c and "northward" in c}
     if not complete:
         if grid_relative:
-            _refuse_grid_relative(grid_relative[0].split(" ")[0], grid_relative[0].split("(")[1][:-1])
+            _refuse_grid_relative(
+                grid_relative[0].split(" ")[0], grid_relative[0].split("(")[1][:-1]
+            )
         partial = {f: c for f, c in found.items() if c}
         looked = ", ".join(
             n for t in criteria.VELOCITY_STANDARD_NAMES.values() for n in list(t.values())[:2]
@@ -236,7 +238,9 @@ def _degrees(ds: xr.Dataset, axis: str) -> str:
     units_table = criteria.LATITUDE_UNITS if axis == "latitude" else criteria.LONGITUDE_UNITS
     by_std = [n for n, v in ds.variables.items() if _std(v) == axis]
     by_units = [
-        n for n, v in ds.variables.items() if v.attrs.get("units") in units_table and n not in by_std
+        n
+        for n, v in ds.variables.items()
+        if v.attrs.get("units") in units_table and n not in by_std
     ]
     candidates = by_std or by_units
     coords = [n for n in candidates if n in ds.coords]

@@ -93,8 +93,15 @@ def julian_date_parts(values: np.ndarray, variable: str = "time") -> tuple[np.nd
 
 def utc_to_tt(jd1: np.ndarray, jd2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """UTC two-part Julian date to TT, with leap seconds from pyerfa (SOFA)."""
+    import warnings
+
     erfa = _require_erfa()
-    tai1, tai2 = erfa.utctai(jd1, jd2)
+    with warnings.catch_warnings():
+        # Past the end of pyerfa's leap-second table, UTC -> TAI is "dubious":
+        # a leap second not yet announced shifts TT by 1 s, which moves the
+        # precession-nutation matrix by ~1e-12 rad (5e-6 m at the surface).
+        warnings.filterwarnings("ignore", message=".*dubious year", category=erfa.ErfaWarning)
+        tai1, tai2 = erfa.utctai(jd1, jd2)
     return erfa.taitt(tai1, tai2)
 
 

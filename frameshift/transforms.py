@@ -165,12 +165,15 @@ def _local(ds: xr.Dataset, frame: Planet, target: str, layout: Layout, height) -
         omega: float | xr.DataArray = float(frame.rotation_rate)
     else:  # pragma: no cover - no unsteady frame ships yet
         omega = _rate_over_time(ds, frame, layout)
-    speed = apply_kernel(
-        vk.eastward_frame_speed,
-        lat,
-        h,
-        kwargs={"omega": 1.0, "a": frame.equatorial_radius, "f": frame.flattening},
-    ) * omega
+    speed = (
+        apply_kernel(
+            vk.eastward_frame_speed,
+            lat,
+            h,
+            kwargs={"omega": 1.0, "a": frame.equatorial_radius, "f": frame.flattening},
+        )
+        * omega
+    )
     east = ds[layout.velocity.eastward]
     unit = parse_units(layout.velocity.eastward, east.attrs.get("units"), "speed")
     shift = speed * (sign / scale_to(unit, "m s-1"))
@@ -196,11 +199,14 @@ def _local(ds: xr.Dataset, frame: Planet, target: str, layout: Layout, height) -
                 attrs.pop(key, None)
         out[name] = xr.Variable(var.dims, data, attrs=attrs, encoding=encoding)
     op = "to_inertial" if target == INERTIAL else "to_rotating"
-    return stamp(out, f"{op}(basis='local', frame={frame.name!r}) on {list(layout.velocity.names())}")
+    return stamp(
+        out, f"{op}(basis='local', frame={frame.name!r}) on {list(layout.velocity.names())}"
+    )
 
 
-def _velocity_attrs(old: Mapping, comp: str, layout: Layout, frame: Planet, target: str,
-                    units: str) -> dict:
+def _velocity_attrs(
+    old: Mapping, comp: str, layout: Layout, frame: Planet, target: str, units: str
+) -> dict:
     attrs = dict(old)
     label = criteria.FAMILY_LABELS[layout.velocity.family]
     if target == INERTIAL:
@@ -305,8 +311,9 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
     comps = []
     scales = []
     record = {"family": vset.family}
-    for comp, name in zip(criteria.COMPONENTS, (vset.eastward, vset.northward, vset.upward),
-                          strict=True):
+    for comp, name in zip(
+        criteria.COMPONENTS, (vset.eastward, vset.northward, vset.upward), strict=True
+    ):
         if name is None:
             comps.append(xr.DataArray(0.0))
             scales.append(1.0)
@@ -361,8 +368,9 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
         position=pos.assign_attrs(pos_attrs), velocity=vel.assign_attrs(vel_attrs)
     ).assign_coords(component=("component", ["x", "y", "z"], {"long_name": "Cartesian axis"}))
     return stamp(
-        out, f"to_inertial(basis='cartesian', celestial={celestial!r}, frame={frame.name!r}) "
-        f"on {list(vset.names())}"
+        out,
+        f"to_inertial(basis='cartesian', celestial={celestial!r}, frame={frame.name!r}) "
+        f"on {list(vset.names())}",
     )
 
 
@@ -446,15 +454,18 @@ def _from_cartesian(ds: xr.Dataset, frame: Planet, celestial: str, dut1) -> xr.D
         new[free(base)] = data.assign_attrs(
             long_name=f"{base} of the point, from its inertial position", **attrs
         )
-    for comp, name, units, data in zip(criteria.COMPONENTS, names, unit_strings, results[3:],
-                                       strict=True):
+    for comp, name, units, data in zip(
+        criteria.COMPONENTS, names, unit_strings, results[3:], strict=True
+    ):
         info = record.get(comp, {})
-        attrs = {
-            k: info[k] for k in ("standard_name", "long_name") if k in info
-        }
+        attrs = {k: info[k] for k in ("standard_name", "long_name") if k in info}
         attrs.setdefault("long_name", f"{comp} velocity relative to {frame.name}")
-        attrs.update(units=units, reference_frame=ROTATING, reference_body=frame.name,
-                     velocity_component=comp)
+        attrs.update(
+            units=units,
+            reference_frame=ROTATING,
+            reference_body=frame.name,
+            velocity_component=comp,
+        )
         new[free(name)] = data.assign_attrs(attrs)
     out = out.assign(new)
     return stamp(

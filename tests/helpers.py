@@ -60,11 +60,13 @@ def cf_standard_names() -> frozenset[str]:
 
 
 def written_standard_names(ds: xr.Dataset) -> set[str]:
-    return {str(v.attrs["standard_name"]) for v in ds.variables.values() if "standard_name" in v.attrs}
+    return {
+        str(v.attrs["standard_name"]) for v in ds.variables.values() if "standard_name" in v.attrs
+    }
 
 
 def assert_udunits(units: str) -> None:
-    """Check a unit string parses in UDUNITS-2 (through cf_units, shipped with compliance-checker)."""
+    """Check a unit string parses in UDUNITS-2 (cf_units, which compliance-checker brings)."""
     import cf_units
 
     cf_units.Unit(units)  # raises ValueError for strings UDUNITS-2 rejects
@@ -79,25 +81,49 @@ def grid_dataset(
     time = np.datetime64("2030-03-01T00:00", "ns") + np.arange(ntime) * np.timedelta64(6, "h")
     return xr.Dataset(
         {
-            "ua": (("time", "z", "lat", "lon"), rng.normal(5, 10, shape),
-                   {"standard_name": "eastward_wind", "units": "m s-1",
-                    "cell_methods": "time: mean"}),
-            "va": (("time", "z", "lat", "lon"), rng.normal(0, 5, shape),
-                   {"standard_name": "northward_wind", "units": "m s-1"}),
-            "wa": (("time", "z", "lat", "lon"), rng.normal(0, 0.1, shape),
-                   {"standard_name": "upward_air_velocity", "units": "m s-1"}),
-            "ta": (("time", "z", "lat", "lon"), rng.normal(280, 5, shape),
-                   {"standard_name": "air_temperature", "units": "K"}),
+            "ua": (
+                ("time", "z", "lat", "lon"),
+                rng.normal(5, 10, shape),
+                {"standard_name": "eastward_wind", "units": "m s-1", "cell_methods": "time: mean"},
+            ),
+            "va": (
+                ("time", "z", "lat", "lon"),
+                rng.normal(0, 5, shape),
+                {"standard_name": "northward_wind", "units": "m s-1"},
+            ),
+            "wa": (
+                ("time", "z", "lat", "lon"),
+                rng.normal(0, 0.1, shape),
+                {"standard_name": "upward_air_velocity", "units": "m s-1"},
+            ),
+            "ta": (
+                ("time", "z", "lat", "lon"),
+                rng.normal(280, 5, shape),
+                {"standard_name": "air_temperature", "units": "K"},
+            ),
         },
         coords={
             "time": ("time", time, {"standard_name": "time"}),
-            "z": ("z", np.linspace(100.0, 10000.0, nlev),
-                  {"standard_name": "height_above_reference_ellipsoid", "units": "m",
-                   "positive": "up", "axis": "Z"}),
-            "lat": ("lat", np.linspace(-80.0, 80.0, nlat),
-                    {"standard_name": "latitude", "units": "degrees_north"}),
-            "lon": ("lon", np.linspace(0.0, 350.0, nlon),
-                    {"standard_name": "longitude", "units": "degrees_east"}),
+            "z": (
+                "z",
+                np.linspace(100.0, 10000.0, nlev),
+                {
+                    "standard_name": "height_above_reference_ellipsoid",
+                    "units": "m",
+                    "positive": "up",
+                    "axis": "Z",
+                },
+            ),
+            "lat": (
+                "lat",
+                np.linspace(-80.0, 80.0, nlat),
+                {"standard_name": "latitude", "units": "degrees_north"},
+            ),
+            "lon": (
+                "lon",
+                np.linspace(0.0, 350.0, nlon),
+                {"standard_name": "longitude", "units": "degrees_east"},
+            ),
         },
         attrs={"Conventions": "CF-1.8", "title": "test grid"},
     )
@@ -110,19 +136,34 @@ def station_dataset(nstation: int = 3, ntime: int = 4, *, rng_key: int = 2) -> x
     shape = (nstation, ntime, 2)
     return xr.Dataset(
         {
-            "u": (("station", "time", "depth"), rng.normal(0, 0.3, shape),
-                  {"standard_name": "eastward_sea_water_velocity", "units": "cm s-1"}),
-            "v": (("station", "time", "depth"), rng.normal(0, 0.3, shape),
-                  {"standard_name": "northward_sea_water_velocity", "units": "cm s-1"}),
+            "u": (
+                ("station", "time", "depth"),
+                rng.normal(0, 0.3, shape),
+                {"standard_name": "eastward_sea_water_velocity", "units": "cm s-1"},
+            ),
+            "v": (
+                ("station", "time", "depth"),
+                rng.normal(0, 0.3, shape),
+                {"standard_name": "northward_sea_water_velocity", "units": "cm s-1"},
+            ),
         },
         coords={
             "time": ("time", time),
-            "depth": ("depth", [10.0, 50.0], {"standard_name": "depth", "units": "m",
-                                               "positive": "down"}),
-            "lat": ("station", rng.uniform(-60, 60, nstation),
-                    {"standard_name": "latitude", "units": "degrees_north"}),
-            "lon": ("station", rng.uniform(-180, 180, nstation),
-                    {"standard_name": "longitude", "units": "degrees_east"}),
+            "depth": (
+                "depth",
+                [10.0, 50.0],
+                {"standard_name": "depth", "units": "m", "positive": "down"},
+            ),
+            "lat": (
+                "station",
+                rng.uniform(-60, 60, nstation),
+                {"standard_name": "latitude", "units": "degrees_north"},
+            ),
+            "lon": (
+                "station",
+                rng.uniform(-180, 180, nstation),
+                {"standard_name": "longitude", "units": "degrees_east"},
+            ),
         },
     )
 
@@ -133,21 +174,39 @@ def trajectory_dataset(ntime: int = 6, *, rng_key: int = 3) -> xr.Dataset:
     time = np.datetime64("2030-01-15T00:00", "ns") + np.arange(ntime) * np.timedelta64(10, "m")
     return xr.Dataset(
         {
-            "u": ("time", rng.normal(20, 5, ntime),
-                  {"standard_name": "eastward_wind", "units": "knot"}),
-            "v": ("time", rng.normal(0, 5, ntime),
-                  {"standard_name": "northward_wind", "units": "knot"}),
-            "w": ("time", rng.normal(0, 1, ntime),
-                  {"standard_name": "upward_air_velocity", "units": "m s-1"}),
-            "alt": ("time", rng.uniform(1000, 20000, ntime),
-                    {"standard_name": "altitude", "units": "m"}),
+            "u": (
+                "time",
+                rng.normal(20, 5, ntime),
+                {"standard_name": "eastward_wind", "units": "knot"},
+            ),
+            "v": (
+                "time",
+                rng.normal(0, 5, ntime),
+                {"standard_name": "northward_wind", "units": "knot"},
+            ),
+            "w": (
+                "time",
+                rng.normal(0, 1, ntime),
+                {"standard_name": "upward_air_velocity", "units": "m s-1"},
+            ),
+            "alt": (
+                "time",
+                rng.uniform(1000, 20000, ntime),
+                {"standard_name": "altitude", "units": "m"},
+            ),
         },
         coords={
             "time": ("time", time),
-            "lat": ("time", np.linspace(30, 35, ntime), {"standard_name": "latitude",
-                                                       "units": "degrees_north"}),
-            "lon": ("time", np.linspace(-20, -10, ntime), {"standard_name": "longitude",
-                                                         "units": "degrees_east"}),
+            "lat": (
+                "time",
+                np.linspace(30, 35, ntime),
+                {"standard_name": "latitude", "units": "degrees_north"},
+            ),
+            "lon": (
+                "time",
+                np.linspace(-20, -10, ntime),
+                {"standard_name": "longitude", "units": "degrees_east"},
+            ),
         },
     )
 

@@ -13,10 +13,10 @@ import numpy as np
 
 __all__ = [
     "axis_distance",
+    "cartesian_to_enu",
     "cartesian_to_geodetic",
     "enu_basis",
     "enu_to_cartesian",
-    "cartesian_to_enu",
     "geodetic_to_cartesian",
     "meridian_radius",
     "prime_vertical_radius",

@@ -32,8 +32,14 @@ def geodetic_to_inertial(lat_deg, lon_deg, h, u, v, w, matrix, omega, *, a, f, s
     ``loop`` is the broadcast shape of all inputs' leading axes.
     """
     loop = np.broadcast_shapes(
-        np.shape(lat_deg), np.shape(lon_deg), np.shape(h), np.shape(u), np.shape(v),
-        np.shape(w), np.shape(matrix)[:-2], np.shape(omega)[:-1],
+        np.shape(lat_deg),
+        np.shape(lon_deg),
+        np.shape(h),
+        np.shape(u),
+        np.shape(v),
+        np.shape(w),
+        np.shape(matrix)[:-2],
+        np.shape(omega)[:-1],
     )
     lat = np.deg2rad(lat_deg)
     lon = np.deg2rad(lon_deg)
@@ -51,14 +57,20 @@ def inertial_to_geodetic(position, velocity, matrix, omega, *, a, f, scale):
     (so in the caller's units).
     """
     loop = np.broadcast_shapes(
-        np.shape(position)[:-1], np.shape(velocity)[:-1], np.shape(matrix)[:-2],
+        np.shape(position)[:-1],
+        np.shape(velocity)[:-1],
+        np.shape(matrix)[:-2],
         np.shape(omega)[:-1],
     )
     r_body, v_body = rotation.to_rotating_cartesian(position, velocity, omega, matrix)
     lat, lon, h = geodesy.cartesian_to_geodetic(r_body, a, f)
     enu = geodesy.cartesian_to_enu(lat, lon, v_body)
     out = (
-        np.rad2deg(lat), np.rad2deg(lon), h,
-        enu[..., 0] / scale[0], enu[..., 1] / scale[1], enu[..., 2] / scale[2],
+        np.rad2deg(lat),
+        np.rad2deg(lon),
+        h,
+        enu[..., 0] / scale[0],
+        enu[..., 1] / scale[1],
+        enu[..., 2] / scale[2],
     )
     return tuple(np.broadcast_to(x, loop) for x in out)

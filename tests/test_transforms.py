@@ -1,0 +1,274 @@
+"""Earth-rotating <-> inertial transforms on gridded, station and trajectory Datasets."""
+
+import numpy as np
+import pyproj
+import pytest
+import xarray as xr
+
+import frameshift
+from frameshift import (
+    EARTH,
+    EARTH_SPHERE,
+    FrameError,
+    InputTypeError,
+    MissingInputError,
+    UnitsError,
+    UnsupportedInputError,
+)
+from tests.helpers import (
+    BUILDERS,
+    all_kinds,
+    as_layout,
+    assert_udunits,
+    cf_standard_names,
+    eager_and_chunked,
+    raise_if_dask_computes,
+    written_standard_names,
+)
+
+OMEGA = 7.292115e-5  # IERS Conventions (2010) Table 1.1
+_ECEF = pyproj.Transformer.from_crs("EPSG:4979", "EPSG:4978", always_xy=True)
+KNOT = 1852.0 / 3600.0  # international knot, m s-1 (SI Brochure, Table 8: 1 nmi = 1852 m)
+
+
+def _names(ds):
+    east = next(
+        n
+        for n, v in ds.data_vars.items()
+        if v.attrs.get("standard_name", "").startswith("eastward")
+    )
+    return east
+
+
+def _expected_shift(ds, east):
+    """Ω × distance from the axis, with the distance from pyproj's WGS 84 ECEF (EPSG:4978)."""
+    lat, lon = xr.broadcast(ds["lat"], ds["lon"])
+    if "z" in ds:
+        h = ds["z"]
+    elif "depth" in ds:
+        h = -ds["depth"]
+    else:
+        h = ds["alt"]
+    lat, lon, h = xr.broadcast(lat, lon, h)
+    x, y, _ = _ECEF.transform(lon.values, lat.values, h.values)
+    return xr.DataArray(OMEGA * np.hypot(x, y), dims=lat.dims).transpose(
+        *[d for d in ds[east].dims if d in lat.dims]
+    )
+
+
+@all_kinds
+@eager_and_chunked
+def test_local_basis_adds_omega_times_axis_distance(kind, layout):
+    ds = as_layout(BUILDERS[kind](), layout)
+    before = ds.copy(deep=True)
+    with raise_if_dask_computes():
+        out = frameshift.to_inertial(ds)
+    east = _names(before)
+    unit = {"m s-1": 1.0, "cm s-1": 0.01, "knot": KNOT}[before[east].attrs["units"]]
+    shift = (out[east] - before[east]).compute() * unit
+    expected = _expected_shift(before, east).broadcast_like(shift.drop_vars(shift.coords))
+    np.testing.assert_allclose(shift.values, expected.transpose(*shift.dims).values, atol=1e-6)
+    # the input is untouched, and so is everything that is not the eastward component
+    xr.testing.assert_identical(ds.compute(), before)
+    for name in before.variables:
+        if name != east:
+            np.testing.assert_array_equal(out[name].values, before[name].values)
+    for name in before.coords:
+        assert out[name].attrs == before[name].attrs
+    assert out[east].dims == before[east].dims
+    assert out[east].attrs["units"] == before[east].attrs["units"]
+
+
+def test_shift_at_45n_sea_level_is_omega_times_4517590_879():
+    # WGS 84: N cos φ at 45° N, 0 m = 4517590.879 m (computed from the defining constants)
+    ds = xr.Dataset(
+        {
+            "u": ("p", [0.0], {"standard_name": "eastward_wind", "units": "m s-1"}),
+            "v": ("p", [0.0], {"standard_name": "northward_wind", "units": "m s-1"}),
+        },
+        coords={
+            "lat": ("p", [45.0], {"units": "degrees_north"}),
+            "lon": ("p", [7.0], {"units": "degrees_east"}),
+        },
+    )
+    out = frameshift.to_inertial(ds)
+    assert float(out["u"][0]) == pytest.approx(OMEGA * 4517590.879, abs=OMEGA * 1e-3)  # 1 mm
+    # on the IUGG mean sphere: Ω R1 cos 45° (Moritz 1980, R1 = 6371008.7714 m)
+    sph = frameshift.to_inertial(ds, EARTH_SPHERE)
+    assert float(sph["u"][0]) == pytest.approx(OMEGA * 6371008.7714 * np.cos(np.pi / 4), rel=1e-13)
+
+
+@eager_and_chunked
+def test_local_metadata_and_round_trip(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
+    out = frameshift.to_inertial(ds)
+    for name in ("ua", "va", "wa"):
+        attrs = out[name].attrs
+        assert "standard_name" not in attrs  # eastward_wind means relative to the Earth
+        assert attrs["reference_frame"] == "inertial"
+        assert attrs["reference_body"] == EARTH.name
+        assert "inertial" in attrs["long_name"]
+        assert_udunits(attrs["units"])
+    assert out["ua"].attrs["cell_methods"] == "time: mean"
+    assert written_standard_names(out) <= cf_standard_names()
+    assert out.attrs["Conventions"] == "CF-1.11"
+    assert out.attrs["history"].splitlines()[-1].split(" ", 1)[1].startswith("frameshift")
+    assert "to_inertial" in out.attrs["history"]
+    back = frameshift.to_rotating(out)
+    for name in ("ua", "va", "wa"):
+        np.testing.assert_allclose(back[name].values, ds[name].values, rtol=1e-12, atol=1e-12)
+        assert back[name].attrs["standard_name"] == ds[name].attrs["standard_name"]
+        assert back[name].attrs["reference_frame"] == "rotating"
+    assert back.attrs["history"].count("\n") == 1
+
+
+def test_converting_twice_or_to_the_frame_it_is_in_is_refused():
+    ds = BUILDERS["grid"]()
+    with pytest.raises(FrameError, match="already relative to the rotating frame"):
+        frameshift.to_rotating(ds)
+    out = frameshift.to_inertial(ds)
+    with pytest.raises(FrameError, match="already relative to the inertial frame") as info:
+        frameshift.to_inertial(out)
+    assert info.value.variable == "ua"
+
+
+@pytest.mark.parametrize("units", ["knot", "cm s-1", "km h-1", "m/s"])
+def test_any_speed_unit_is_accepted_and_kept(units):
+    ds = BUILDERS["grid"]()
+    factor = float(frameshift.units.ureg.Quantity(1.0, "m/s").to(units).magnitude)
+    for name in ("ua", "va", "wa"):
+        ds[name] = ds[name] * factor
+        ds[name].attrs.update(BUILDERS["grid"]()[name].attrs, units=units)
+    ref = frameshift.to_inertial(BUILDERS["grid"]())
+    out = frameshift.to_inertial(ds)
+    np.testing.assert_allclose(out["ua"].values / factor, ref["ua"].values, rtol=1e-13)
+    assert_udunits(out["ua"].attrs["units"])
+    assert frameshift.units.ureg.Unit(out["ua"].attrs["units"]) == frameshift.units.ureg.Unit(units)
+
+
+@pytest.mark.parametrize(
+    ("units", "message"),
+    [
+        (None, "has no 'units'"),
+        ("furlongs per fortnightly", "not a recognised unit"),
+        ("K", "dimension"),
+    ],
+)
+def test_bad_velocity_units_raise_units_error(units, message):
+    ds = BUILDERS["grid"]()
+    if units is None:
+        del ds["ua"].attrs["units"]
+    else:
+        ds["ua"].attrs["units"] = units
+    with pytest.raises(UnitsError, match=message) as info:
+        frameshift.to_inertial(ds)
+    assert info.value.variable == "ua"
+    assert "length" in info.value.expected
+
+
+def test_grid_relative_components_are_refused():
+    ds = BUILDERS["grid"]()
+    ds["ua"].attrs["standard_name"] = "x_wind"
+    ds["va"].attrs["standard_name"] = "y_wind"
+    with pytest.raises(UnsupportedInputError, match="rotate the components to east/north"):
+        frameshift.to_inertial(ds)
+    with pytest.raises(UnsupportedInputError, match="grid-relative"):
+        frameshift.to_inertial(ds, velocity={"eastward": "ua", "northward": "va"})
+
+
+def _pressure_dataset():
+    ds = BUILDERS["grid"]().drop_vars("z").rename(z="plev")
+    ds = ds.assign_coords(
+        plev=(
+            "plev",
+            [85000.0, 50000.0],
+            {"standard_name": "air_pressure", "units": "Pa", "positive": "down"},
+        )
+    )
+    return ds
+
+
+def test_pressure_only_vertical_is_refused_and_height_or_geopotential_height_fix_it():
+    ds = _pressure_dataset()
+    with pytest.raises(UnsupportedInputError, match=r"pass height= .* geopotential height"):
+        frameshift.to_inertial(ds)
+    zg = xr.DataArray(
+        [1500.0, 5500.0], dims="plev", attrs={"standard_name": "geopotential_height", "units": "m"}
+    )
+    with_zg = ds.assign(zg=zg)
+    a = frameshift.to_inertial(with_zg)
+    b = frameshift.to_inertial(ds, height=zg)
+    c = frameshift.to_inertial(ds.assign(zg=zg), height="zg")
+    xr.testing.assert_allclose(a["ua"], b["ua"])
+    xr.testing.assert_allclose(a["ua"], c["ua"])
+    assert "geopotential height" in a["ua"].attrs["assumptions"]
+
+
+def test_no_vertical_means_zero_height_and_says_so():
+    ds = BUILDERS["grid"]().isel(z=0).drop_vars("z")
+    out = frameshift.to_inertial(ds)
+    assert "height taken as 0 m" in out["ua"].attrs["assumptions"]
+    ref = frameshift.to_inertial(ds, height=0.0)
+    xr.testing.assert_allclose(out["ua"], ref["ua"])
+
+
+def test_missing_upward_velocity_is_taken_as_zero_and_said_so():
+    ds = BUILDERS["station"]()
+    out = frameshift.to_inertial(ds)
+    assert "no upward velocity" in out["u"].attrs["assumptions"]
+
+
+def test_velocity_mapping_for_variables_without_standard_names():
+    ds = BUILDERS["grid"]()
+    for name in ("ua", "va", "wa"):
+        del ds[name].attrs["standard_name"]
+    with pytest.raises(MissingInputError, match="velocity="):
+        frameshift.to_inertial(ds)
+    out = frameshift.to_inertial(ds, velocity={"eastward": "ua", "northward": "va", "upward": "wa"})
+    ref = frameshift.to_inertial(BUILDERS["grid"]())
+    np.testing.assert_allclose(out["ua"].values, ref["ua"].values)
+    with pytest.raises(ValueError, match="unknown component"):
+        frameshift.to_inertial(ds, velocity={"eastwards": "ua", "northward": "va"})
+
+
+def test_several_velocity_sets_need_a_choice():
+    ds = BUILDERS["grid"]()
+    ds["u2"] = ds["ua"].copy()
+    with pytest.raises(UnsupportedInputError, match="more than one set"):
+        frameshift.to_inertial(ds)
+    out = frameshift.to_inertial(ds, velocity={"eastward": "u2", "northward": "va"})
+    assert out["ua"].attrs["standard_name"] == "eastward_wind"  # untouched
+    assert out["u2"].attrs["reference_frame"] == "inertial"
+
+
+def test_dataarray_input_is_a_type_error():
+    with pytest.raises(InputTypeError) as info:
+        frameshift.to_inertial(BUILDERS["grid"]()["ua"])
+    assert isinstance(info.value, TypeError)
+
+
+def test_bad_convention_values_list_the_valid_ones():
+    with pytest.raises(ValueError, match="'local', 'cartesian'"):
+        frameshift.to_inertial(BUILDERS["grid"](), basis="polar")
+    with pytest.raises(ValueError, match="'cirs', 'gcrs'"):
+        frameshift.to_inertial(BUILDERS["grid"](), basis="cartesian", celestial="icrs")
+
+
+def test_accessor_delegates():
+    ds = BUILDERS["trajectory"]()
+    xr.testing.assert_identical(
+        ds.frameshift.to_inertial().drop_attrs(), frameshift.to_inertial(ds).drop_attrs()
+    )
+
+
+def test_depth_is_positive_down():
+    ds = BUILDERS["station"]()
+    out = frameshift.to_inertial(ds)
+    shift = (out["u"] - ds["u"]) * 0.01  # cm s-1 to m s-1
+    deep, shallow = shift.isel(depth=1), shift.isel(depth=0)
+    # deeper is closer to the axis: Ω cos φ × 40 m less (geometry of the ellipsoid normal)
+    np.testing.assert_allclose(
+        (shallow - deep).values,
+        (OMEGA * np.cos(np.deg2rad(ds["lat"])) * 40.0).values[:, None] * np.ones(ds.sizes["time"]),
+        rtol=1e-9,
+    )
