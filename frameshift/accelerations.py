@@ -1,0 +1,454 @@
+"""Apparent accelerations of a rotating frame, term by term, as labelled CF variables.
+
+In a frame rotating with a planet, on local east/north/up axes that follow a
+moving parcel, the rate of change of the velocity components (u, v, w) is
+
+    d(u, v, w)/dt = inertial acceleration + coriolis + centrifugal + euler + curvature
+
+where the inertial acceleration is what forces produce (pressure gradient,
+gravitation, friction) and the four other terms come from the frame and the
+axes alone. :func:`apparent_accelerations` writes each term and component as
+its own variable, with the formula in the attributes; the kernels and their
+formulas are in :mod:`frameshift._kernels.accelerations`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+
+import numpy as np
+import xarray as xr
+
+from frameshift._apply import apply_kernel
+from frameshift._kernels import accelerations as ak
+from frameshift._kernels.rotation import J2000
+from frameshift.cf import stamp
+from frameshift.detect import (
+    INERTIAL,
+    ROTATING,
+    Layout,
+    _degrees,
+    _plain,
+    find_layout,
+    find_time,
+    height_in_metres,
+    require_dataset,
+)
+from frameshift.errors import (
+    ConventionError,
+    FrameError,
+    MissingInputError,
+    UnsupportedInputError,
+)
+from frameshift.frames import EARTH, Planet
+from frameshift.timescales import julian_date_parts
+from frameshift.units import parse_units, scale_to
+
+__all__ = ["TERMS", "TERM_FORMULAS", "apparent_accelerations", "coriolis_parameters"]
+
+#: The apparent-acceleration terms, in output order.
+TERMS = ak.TERMS
+
+_LABELS = {
+    "coriolis": "Coriolis",
+    "centrifugal": "centrifugal",
+    "euler": "Euler",
+    "curvature": "curvature (metric)",
+}
+
+#: Formula of each term and component, as written into the ``formula`` attribute.
+#: Ω: rotation rate; φ: geodetic latitude; (u, v, w): velocity relative to the
+#: rotating frame; M, N: meridian and prime-vertical radii; h: height above the
+#: ellipsoid; p = (N + h) cos φ; Ω̇: rate of change of Ω on the rotation axis.
+TERM_FORMULAS: dict[str, dict[str, str]] = {
+    "coriolis": {
+        "eastward": "-2 Omega x V: 2 Omega sin(lat) v - 2 Omega cos(lat) w",
+        "northward": "-2 Omega x V: -2 Omega sin(lat) u",
+        "upward": "-2 Omega x V: 2 Omega cos(lat) u",
+    },
+    "centrifugal": {
+        "eastward": "-Omega x (Omega x r): 0",
+        "northward": "-Omega x (Omega x r): -Omega^2 (N + h) cos(lat) sin(lat)",
+        "upward": "-Omega x (Omega x r): Omega^2 (N + h) cos(lat)^2",
+    },
+    "euler": {
+        "eastward": "-(dOmega/dt) x r, east component (-dOmega/dt (N + h) cos(lat) on the axis)",
+        "northward": "-(dOmega/dt) x r, north component (0 for dOmega/dt on the axis)",
+        "upward": "-(dOmega/dt) x r, up component (0 for dOmega/dt on the axis)",
+    },
+    "curvature": {
+        "eastward": "u v tan(lat)/(N + h) - u w/(N + h)",
+        "northward": "-u^2 tan(lat)/(N + h) - v w/(M + h)",
+        "upward": "u^2/(N + h) + v^2/(M + h)",
+    },
+}
+
+_TRADITIONAL_FORMULAS = {
+    ("coriolis", "eastward"): "-2 Omega x V, traditional: 2 Omega sin(lat) v",
+    ("coriolis", "upward"): "0 (traditional approximation)",
+    ("curvature", "eastward"): "u v tan(lat)/(N + h) (traditional)",
+    ("curvature", "northward"): "-u^2 tan(lat)/(N + h) (traditional)",
+    ("curvature", "upward"): "0 (traditional approximation)",
+}
+
+_TRADITIONAL_NOTE = (
+    "traditional approximation: the 2 Omega cos(lat) Coriolis terms and the curvature "
+    "terms in w or in the upward component are left out"
+)
+
+
+def apparent_accelerations(
+    ds: xr.Dataset,
+    frame: Planet = EARTH,
+    *,
+    terms: str | Iterable[str] | None = None,
+    traditional: bool = False,
+    velocity: Mapping[str, str] | None = None,
+    height: object = None,
+    include_parameters: bool = False,
+) -> xr.Dataset:
+    """The accelerations a rotating frame and turning local axes add, term by term.
+
+    For velocities V = (u, v, w) relative to ``frame`` on local east/north/up
+    axes, returns the four apparent accelerations, each positive along the
+    axis it names, so that d(u, v, w)/dt following the motion equals the
+    inertial (force-driven) acceleration plus their sum:
+
+    ``coriolis``: -2 Ω × V = (2Ω sinφ v - 2Ω cosφ w, -2Ω sinφ u, 2Ω cosφ u);
+    deflects motion to the right in the northern hemisphere (Ω > 0), and
+    pushes eastward motion up (the Eötvös effect).
+
+    ``centrifugal``: -Ω × (Ω × r) = Ω² p (0, -sinφ, cosφ), p = (N + h) cos φ:
+    away from the rotation axis (equatorward and up).
+
+    ``euler``: -(dΩ/dt) × r, from ``frame.rotation_vector_rate``; zero for a
+    steady rotation (computed all the same). For a change of rate on the axis
+    it is (-Ω̇ p, 0, 0).
+
+    ``curvature``: -ω_b × V, where ω_b = (-v/(M+h), u/(N+h), u tanφ/(N+h)) is
+    the rate at which the local axes turn as the point moves over the
+    ellipsoid: (u v tanφ/(N+h) - u w/(N+h), -u² tanφ/(N+h) - v w/(M+h),
+    u²/(N+h) + v²/(M+h)). Singular at the poles (tan φ), where east and
+    north are undefined.
+
+    Exact on the ellipsoid: geodetic latitude φ, meridian radius M,
+    prime-vertical radius N, height h above the ellipsoid.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Gridded, station or trajectory data with velocities relative to the
+        rotating frame (found as by :func:`frameshift.to_inertial`) and
+        latitude; longitude too, though only an off-axis dΩ/dt uses it.
+    frame : Planet, default EARTH
+        The rotating frame. Its rotation vector must lie on the body's z axis.
+    terms : str or iterable of str, optional
+        A subset of ``"coriolis"``, ``"centrifugal"``, ``"euler"``,
+        ``"curvature"`` (default all four). Totals sum the terms asked for.
+    traditional : bool, default False
+        The consistent shallow-fluid ("traditional approximation") set, as in
+        Phillips (1966), J. Atmos. Sci. 23, 626-628, and White et al. (2005),
+        Q. J. R. Meteorol. Soc. 131, 2081-2107 (both cited from memory): the
+        Coriolis terms in 2Ω cos φ (-2Ω cosφ w east, 2Ω cosφ u up) and the
+        curvature terms in w (-u w/(N+h), -v w/(M+h)) or upward
+        (u²/(N+h) + v²/(M+h)) are dropped; the upward components of these
+        two terms are then zero. The radii (N + h, M + h) are kept exact,
+        and the centrifugal and Euler terms are unchanged.
+    velocity : mapping, optional
+        ``{"eastward": name, "northward": name, "upward": name}`` (upward optional, else 0).
+    height : float, str or DataArray, optional
+        Height above the ellipsoid overriding what the Dataset holds.
+    include_parameters : bool, default False
+        Also return ``coriolis_parameter`` (2Ω sin φ) and
+        ``reciprocal_coriolis_parameter`` (2Ω cos φ) on the latitude's dimensions.
+
+    Returns
+    -------
+    xarray.Dataset
+        Variables ``<term>_<component>`` for each term asked for and
+        ``total_eastward``, ``total_northward``, ``total_upward``; float64, m s-2,
+        on the velocity's dimensions and coordinates. No standard names: the
+        CF table (v93) has none for these terms.
+
+    Raises
+    ------
+    ConventionError
+        For an unknown term or a frame that is not a :class:`Planet`.
+    MissingInputError
+        Without velocities or a latitude, or without time for an unsteady frame.
+    FrameError
+        If the velocities are relative to the inertial frame.
+
+    Examples
+    --------
+    >>> import xarray as xr, frameshift
+    >>> ds = xr.Dataset(
+    ...     {"u": ("lat", [10.0], {"standard_name": "eastward_wind", "units": "m s-1"}),
+    ...      "v": ("lat", [0.0], {"standard_name": "northward_wind", "units": "m s-1"})},
+    ...     coords={"lat": ("lat", [45.0], {"units": "degrees_north"}),
+    ...             "lon": ((), 0.0, {"units": "degrees_east"})})
+    >>> acc = frameshift.apparent_accelerations(ds, terms="coriolis")
+    >>> round(float(acc["coriolis_northward"][0]), 9)  # -f u at 45° N
+    -0.001031261
+    """
+    require_dataset(ds)
+    _check_frame(frame)
+    chosen = _check_terms(terms)
+    traditional = bool(traditional)
+    layout = _layout(ds, velocity, height)
+    vset = layout.velocity
+    east = ds[vset.eastward]
+    dims = tuple(east.dims)
+    h = height_in_metres(ds, layout, height)
+    extra = set(h.dims) - set(dims)
+    if extra:
+        raise MissingInputError(
+            f"the height varies along {sorted(extra)}, which the velocity "
+            f"{vset.eastward!r} {dims} does not have",
+            variable=vset.eastward,
+            expected=f"height on dimensions within {dims}",
+            found=str(h.dims),
+        )
+    omega, rates, lon_needed = _rotation_values(ds, frame, layout.time)
+
+    names = ["lat_deg", "h", "u", "v", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
+    inputs = [_plain(ds[layout.latitude]), h, _plain(east), _plain(ds[vset.northward]), omega]
+    inputs += list(rates)
+    scales = [_scale(ds, vset.eastward), _scale(ds, vset.northward), 1.0]
+    if vset.upward is not None:
+        names.append("w")
+        inputs.append(_plain(ds[vset.upward]))
+        scales[2] = _scale(ds, vset.upward)
+    if lon_needed and "euler" in chosen:
+        names.append("lon_deg")
+        inputs.append(_plain(ds[layout.longitude]))
+    outputs = ak.output_names(chosen)
+    results = apply_kernel(
+        ak.accelerations_named,
+        *inputs,
+        output_core_dims=[()] * len(outputs),
+        kwargs={
+            "names": tuple(names),
+            "a": frame.equatorial_radius,
+            "f": frame.flattening,
+            "scale": tuple(scales),
+            "terms": chosen,
+            "traditional": traditional,
+        },
+        dims_order=dims,
+    )
+    common = _common_attrs(ds, layout, frame)
+    variables = {}
+    for name, data in zip(outputs, results, strict=True):
+        term, comp = name.split("_")
+        attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
+        variables[name] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
+    out = xr.Dataset(variables, coords=east.coords, attrs=dict(ds.attrs))
+    if include_parameters:
+        out = out.assign(_parameters(ds, layout.latitude, frame, omega))
+    op = (
+        f"apparent_accelerations(terms={list(chosen)}, traditional={traditional}, "
+        f"frame={frame.name!r}) from {list(vset.names())}"
+    )
+    return stamp(out, op)
+
+
+def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) -> xr.Dataset:
+    """The Coriolis parameter f = 2Ω sin φ and the reciprocal parameter 2Ω cos φ.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset or xarray.DataArray
+        Holds a latitude (standard name ``latitude`` or units ``degrees_north``);
+        a DataArray is taken as the latitude itself if it carries that metadata.
+    frame : Planet, default EARTH
+
+    Returns
+    -------
+    xarray.Dataset
+        ``coriolis_parameter`` (CF standard name ``coriolis_parameter``, s-1) and
+        ``reciprocal_coriolis_parameter`` (no standard name, s-1) on the
+        latitude's dimensions.
+
+    Examples
+    --------
+    >>> import xarray as xr, frameshift
+    >>> lat = xr.DataArray([45.0], dims="lat", attrs={"units": "degrees_north"}, name="lat")
+    >>> f = frameshift.coriolis_parameters(lat)["coriolis_parameter"]
+    >>> round(float(f[0]), 10)  # 2 Ω sin 45°, Ω of WGS 84
+    0.0001031261
+    """
+    _check_frame(frame)
+    if isinstance(ds, xr.DataArray):
+        ds = ds.to_dataset(name=ds.name if ds.name is not None else "latitude")
+    require_dataset(ds)
+    lat_name = _degrees(ds, "latitude")
+    layout_time = find_time(ds, tuple(ds[lat_name].dims)) if not frame.steady else None
+    omega, _, _ = _rotation_values(ds, frame, layout_time)
+    out = xr.Dataset(_parameters(ds, lat_name, frame, omega), attrs=dict(ds.attrs))
+    return stamp(out, f"coriolis_parameters(frame={frame.name!r}) from {lat_name!r}")
+
+
+# --- helpers ----------------------------------------------------------------------------
+def _check_frame(frame: object) -> None:
+    if not isinstance(frame, Planet):
+        raise ConventionError(
+            f"frame must be a frameshift frame such as EARTH; found {type(frame).__name__}",
+            variable="frame",
+            expected="Planet",
+            found=type(frame).__name__,
+        )
+
+
+def _check_terms(terms: str | Iterable[str] | None) -> tuple[str, ...]:
+    if terms is None:
+        return TERMS
+    asked = (terms,) if isinstance(terms, str) else tuple(terms)
+    unknown = [t for t in asked if t not in TERMS]
+    if unknown or not asked:
+        found = ", ".join(map(repr, unknown)) if unknown else "no terms"
+        raise ConventionError(
+            f"terms= has unknown or no terms ({found}); valid terms are "
+            f"{', '.join(map(repr, TERMS))}",
+            variable="terms",
+            expected=" | ".join(TERMS),
+            found=found,
+        )
+    return tuple(t for t in TERMS if t in asked)
+
+
+def _layout(ds: xr.Dataset, velocity, height) -> Layout:
+    try:
+        return find_layout(ds, velocity, height=height, target=INERTIAL)
+    except FrameError as exc:
+        raise FrameError(
+            f"apparent accelerations need velocities relative to the rotating frame; "
+            f"{exc.variable!r} is relative to the inertial frame. Convert it back with "
+            "frameshift.to_rotating first",
+            variable=exc.variable,
+            expected="a velocity relative to the rotating frame",
+            found="reference_frame='inertial'",
+        ) from exc
+
+
+def _scale(ds: xr.Dataset, name: str) -> float:
+    return scale_to(parse_units(name, ds[name].attrs.get("units"), "speed"), "m s-1")
+
+
+def _rotation_values(ds: xr.Dataset, frame: Planet, time_name: str | None):
+    """Axial rate Ω and dΩ/dt (three body-axis components) as DataArrays.
+
+    A steady frame is evaluated once (at J2000.0): its values hold at every
+    time. An unsteady one needs the Dataset's time, taken as UT1 = UTC.
+    """
+    if frame.steady:
+        jd1, jd2, dims, shape = np.array([J2000]), np.array([0.0]), (), ()
+    else:
+        if time_name is None:
+            raise MissingInputError(
+                f"frame {frame.name!r} changes its rotation in time; the Dataset needs a "
+                "decoded time coordinate (datetime64 or cftime)",
+                variable="time",
+                expected="a time coordinate",
+                found="none",
+            )
+        t = ds[time_name]
+        jd1, jd2 = julian_date_parts(np.asarray(t.values).ravel(), time_name)
+        dims, shape = t.dims, t.shape
+    vector = np.asarray(frame.rotation_vector(jd1, jd2), dtype=np.float64)
+    rate = np.asarray(frame.rotation_vector_rate(jd1, jd2), dtype=np.float64)
+    if np.any(vector[..., :2] != 0.0):
+        raise UnsupportedInputError(
+            f"frame {frame.name!r} has a rotation vector off its z axis (polar motion); "
+            "apparent accelerations take the rotation about the figure axis only",
+            variable="frame",
+            expected="a rotation vector on the body z axis",
+            found="non-zero x or y components",
+        )
+
+    def as_array(values: np.ndarray) -> xr.DataArray:
+        return xr.DataArray(values.reshape(shape) if dims else values[0], dims=dims)
+
+    omega = as_array(vector[..., 2])
+    rates = tuple(as_array(rate[..., i]) for i in range(3))
+    off_axis = bool(np.any(rate[..., :2] != 0.0))
+    return omega, rates, off_axis
+
+
+def _common_attrs(ds: xr.Dataset, layout: Layout, frame: Planet) -> dict:
+    vset = layout.velocity
+    attrs = {
+        "units": "m s-2",
+        "reference_frame": ROTATING,
+        "reference_body": frame.name,
+        "velocity_variables": " ".join(vset.names()),
+    }
+    methods = {ds[n].attrs["cell_methods"] for n in vset.names() if "cell_methods" in ds[n].attrs}
+    if len(methods) == 1:
+        attrs["cell_methods"] = methods.pop()
+    elif methods:
+        attrs["comment"] = (
+            "the velocity components have different cell_methods "
+            f"({'; '.join(sorted(methods))}); none is carried over"
+        )
+    if layout.notes:
+        attrs["assumptions"] = "; ".join(layout.notes)
+    return attrs
+
+
+def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
+    attrs = dict(common)
+    if term == "total":
+        attrs["long_name"] = f"{comp} sum of apparent accelerations ({', '.join(chosen)})"
+        attrs["acceleration_term"] = "total"
+        attrs["terms_included"] = " ".join(chosen)
+        affected = traditional and ({"coriolis", "curvature"} & set(chosen))
+    else:
+        attrs["long_name"] = f"{comp} {_LABELS[term]} acceleration"
+        attrs["acceleration_term"] = term
+        formula = TERM_FORMULAS[term][comp]
+        affected = traditional and term in ("coriolis", "curvature")
+        if affected:
+            formula = _TRADITIONAL_FORMULAS.get((term, comp), formula)
+        attrs["formula"] = formula
+        if term == "curvature" and "cell_methods" in attrs:
+            note = (
+                "computed from the velocities as given; for averaged velocities this is "
+                "the term of the averaged flow, not the average of the term"
+            )
+            attrs["comment"] = f"{attrs['comment']}; {note}" if "comment" in attrs else note
+    attrs["acceleration_component"] = comp
+    if affected:
+        attrs["approximation"] = _TRADITIONAL_NOTE
+    return attrs
+
+
+def _parameters(ds: xr.Dataset, lat_name: str, frame: Planet, omega: xr.DataArray) -> dict:
+    lat = ds[lat_name]
+    f, reciprocal = apply_kernel(
+        ak.coriolis_parameters,
+        _plain(lat),
+        omega,
+        output_core_dims=[(), ()],
+        dims_order=tuple(lat.dims),
+    )
+    coords = lat.coords
+    base = {"units": "s-1", "reference_body": frame.name}
+    return {
+        "coriolis_parameter": xr.DataArray(
+            f.data,
+            dims=f.dims,
+            coords={k: v for k, v in coords.items() if set(v.dims) <= set(f.dims)},
+            attrs={
+                "standard_name": "coriolis_parameter",
+                "long_name": "Coriolis parameter, 2 Omega sin(latitude)",
+                **base,
+            },
+        ),
+        "reciprocal_coriolis_parameter": xr.DataArray(
+            reciprocal.data,
+            dims=reciprocal.dims,
+            coords={k: v for k, v in coords.items() if set(v.dims) <= set(reciprocal.dims)},
+            attrs={"long_name": "reciprocal Coriolis parameter, 2 Omega cos(latitude)", **base},
+        ),
+    }
