@@ -5,6 +5,7 @@ frame the physics needs, and attribute the apparent accelerations a rotating
 frame adds, on xarray data with units and CF metadata kept.
 """
 
+from frameshift.accelerations import apparent_accelerations, coriolis_parameters
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -16,6 +17,7 @@ from frameshift.errors import (
     UnsupportedInputError,
 )
 from frameshift.frames import EARTH, EARTH_SPHERE, Planet
+from frameshift.gravity import normal_gravity
 from frameshift.transforms import to_inertial, to_rotating
 
 __version__ = "0.1.0"
@@ -35,6 +37,9 @@ __all__ = [
     "UnitsError",
     "UnsupportedInputError",
     "__version__",
+    "apparent_accelerations",
+    "coriolis_parameters",
+    "normal_gravity",
     "to_inertial",
     "to_rotating",
 ]
