@@ -1,0 +1,493 @@
+"""Run one frameshift operation over many NetCDF files, safely and in bounded memory.
+
+The runner behind the command line: it expands inputs (files, globs,
+directories), mirrors the input tree under the output directory, skips
+outputs that are already up to date, streams each file through Dask chunks
+sized from a memory budget, and keeps going past a file that fails (unless
+told to stop), collecting one line per failure. File safety (atomic
+writes, untouched variables copied as stored, manifests) is in
+:mod:`frameshift.io`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import glob
+import logging
+import os
+import sys
+import time
+from collections.abc import Iterator, Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import xarray as xr
+
+from frameshift import io
+from frameshift.cf import set_conventions
+from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
+
+__all__ = [
+    "Job",
+    "Operation",
+    "Outcome",
+    "RunOptions",
+    "Summary",
+    "compute_context",
+    "convert_operation",
+    "find_inputs",
+    "plan_jobs",
+    "process",
+    "run",
+    "terms_operation",
+]
+
+_HAS_MAGIC = set("*?[")
+
+
+# --- what to do -----------------------------------------------------------------------
+@dataclass(frozen=True)
+class Operation:
+    """One frameshift operation with its settings, applied file by file.
+
+    Make one with :func:`convert_operation` or :func:`terms_operation`.
+    """
+
+    command: str
+    settings: Mapping[str, object]
+
+    def apply(self, ds: xr.Dataset) -> xr.Dataset:
+        """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
+        s = dict(self.settings)
+        if self.command == "convert":
+            from frameshift.transforms import to_inertial, to_rotating
+
+            func = to_inertial if s.pop("to") == "inertial" else to_rotating
+            return func(ds, **s)
+        apparent_accelerations = _accelerations()
+        result = apparent_accelerations(ds, **s)
+        attrs = {**ds.attrs, **result.attrs}
+        set_conventions(attrs)
+        return result.assign_attrs(attrs)
+
+
+def convert_operation(
+    to: str = "inertial",
+    *,
+    basis: str = "local",
+    celestial: str = "cirs",
+    velocity: Mapping[str, str] | None = None,
+    height: float | str | None = None,
+    dut1: float = 0.0,
+) -> Operation:
+    """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
+
+    Examples
+    --------
+    >>> convert_operation("inertial", basis="cartesian").settings["basis"]
+    'cartesian'
+    """
+    check_choice("to", to, ("inertial", "rotating"))
+    settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
+                "height": height, "dut1": float(dut1)}
+    return Operation("convert", settings)
+
+
+def terms_operation(
+    terms: Sequence[str] | None = None,
+    *,
+    traditional: bool = False,
+    velocity: Mapping[str, str] | None = None,
+    height: float | str | None = None,
+    include_parameters: bool = False,
+) -> Operation:
+    """An operation that calls ``frameshift.apparent_accelerations``.
+
+    Examples
+    --------
+    >>> terms_operation(["coriolis"]).settings["terms"]
+    ['coriolis']
+    """
+    settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
+                "velocity": _mapping(velocity), "height": height,
+                "include_parameters": bool(include_parameters)}
+    return Operation("terms", settings)
+
+
+def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
+    return dict(velocity) if velocity is not None else None
+
+
+def _accelerations():
+    try:
+        from frameshift.accelerations import apparent_accelerations
+    except ImportError as exc:
+        raise MissingInputError(
+            "apparent-acceleration terms are not available in this frameshift installation "
+            "(frameshift.accelerations.apparent_accelerations not found)",
+            variable="terms",
+            expected="frameshift.accelerations.apparent_accelerations",
+            found="absent",
+        ) from exc
+    return apparent_accelerations
+
+
+# --- how to run -----------------------------------------------------------------------
+@dataclass(frozen=True)
+class RunOptions:
+    """Settings of a batch run (see ``frameshift convert --help``)."""
+
+    out_dir: Path
+    overwrite: bool = False
+    fail_fast: bool = False
+    quiet: bool = False
+    memory: int = field(default_factory=io.default_memory)
+    workers: int | None = None
+    scheduler: str | None = None
+    combine: bool = False
+    combined_name: str = "combined.nc"
+    command: str = "frameshift"
+    progress: bool | None = None  # None: only when stderr is a terminal and not quiet
+
+    def show_progress(self) -> bool:
+        if self.quiet:
+            return False
+        return sys.stderr.isatty() if self.progress is None else self.progress
+
+
+@dataclass(frozen=True)
+class Job:
+    """One output to make, and the input file(s) it is made from."""
+
+    inputs: tuple[Path, ...]
+    output: Path
+
+
+@dataclass
+class Outcome:
+    """What happened to one job: ``written``, ``skipped``, ``failed`` or ``interrupted``."""
+
+    job: Job
+    status: str
+    reason: str = ""
+    variable: str | None = None
+    expected: str | None = None
+    found: str | None = None
+    seconds: float = 0.0
+
+    def line(self) -> str:
+        """One line for the summary."""
+        source = ", ".join(map(str, self.job.inputs))
+        if self.status == "written":
+            return f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
+        if self.status == "skipped":
+            return f"skipped {self.job.output}: {self.reason}"
+        where = f" (variable {self.variable!r})" if self.variable else ""
+        return f"{self.status.upper()} {source}{where}: {self.reason}"
+
+
+@dataclass
+class Summary:
+    """The outcomes of a run, in order."""
+
+    outcomes: list[Outcome] = field(default_factory=list)
+
+    def count(self, status: str) -> int:
+        return sum(o.status == status for o in self.outcomes)
+
+    @property
+    def exit_code(self) -> int:
+        """0 if nothing failed, 130 if interrupted, else 1."""
+        if self.count("interrupted"):
+            return 130
+        return 1 if self.count("failed") else 0
+
+    def totals(self) -> str:
+        parts = [f"{self.count(s)} {s}" for s in ("written", "skipped", "failed", "interrupted")
+                 if self.count(s) or s in ("written", "failed")]
+        return ", ".join(parts)
+
+
+# --- inputs and outputs -----------------------------------------------------------------
+def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
+    """Expand files, globs and directories (recursing, ``*.nc``) into ``(file, root)`` pairs.
+
+    ``root`` is the directory the file's place in the output tree is taken
+    relative to: the directory given, or the file's own directory.
+
+    Examples
+    --------
+    >>> [f.name for f, _ in find_inputs(["data_demo/tiny_example.nc"])]  # doctest: +SKIP
+    ['tiny_example.nc']
+    """
+    found: dict[Path, tuple[Path, Path]] = {}
+    for arg in paths:
+        text = os.fspath(arg)
+        matches = sorted(glob.glob(text, recursive=True)) if _HAS_MAGIC & set(text) else [text]
+        if not matches or not all(os.path.exists(m) for m in matches):
+            raise MissingInputError(
+                f"input {text!r} matches no file or directory",
+                variable=text,
+                expected="an existing file, directory or glob pattern",
+                found="nothing",
+            )
+        for match in map(Path, matches):
+            if match.is_dir():
+                files = sorted(p for p in match.rglob("*.nc") if p.is_file())
+                pairs = [(p, match) for p in files]
+            else:
+                pairs = [(match, match.parent)]
+            for file, root in pairs:
+                found.setdefault(file.resolve(), (file, root))
+    if not found:
+        raise MissingInputError(
+            f"no NetCDF (*.nc) files found in {[os.fspath(p) for p in paths]}",
+            variable="inputs",
+            expected="at least one *.nc file",
+            found="none",
+        )
+    return list(found.values())
+
+
+def plan_jobs(
+    paths: Sequence[str | os.PathLike],
+    out_dir: str | os.PathLike,
+    *,
+    combine: bool = False,
+    combined_name: str = "combined.nc",
+) -> list[Job]:
+    """The jobs of a run: outputs mirror the input tree under ``out_dir``.
+
+    Refuses (:class:`~frameshift.errors.ConventionError`) an output that
+    would replace an input, and an output directory inside an input
+    directory (its outputs would join the inputs of the next run).
+
+    Examples
+    --------
+    >>> plan_jobs(["data_demo/tiny_example.nc"], "out")[0].output  # doctest: +SKIP
+    PosixPath('out/tiny_example.nc')
+    """
+    pairs = find_inputs(paths)
+    out_dir = Path(out_dir)
+    out_abs = out_dir.resolve()
+    for arg in paths:
+        arg_path = Path(arg)
+        if arg_path.is_dir() and _within(out_abs, arg_path.resolve()):
+            raise ConventionError(
+                f"output directory {os.fspath(out_dir)!r} lies inside the input directory "
+                f"{os.fspath(arg)!r}; its outputs would become inputs. Choose a directory "
+                "outside the inputs",
+                variable="out",
+                expected="a directory outside the input directories",
+                found=os.fspath(out_dir),
+            )
+    if combine:
+        jobs = [Job(tuple(f for f, _ in pairs), out_dir / combined_name)]
+    else:
+        roots = [r.resolve() for _, r in pairs]
+        common = Path(os.path.commonpath(roots)) if len(set(roots)) > 1 else roots[0]
+        jobs = [Job((f,), out_dir / f.resolve().relative_to(common)) for f, _ in pairs]
+    inputs = {f.resolve() for f, _ in pairs}
+    for job in jobs:
+        if job.output.resolve() in inputs:
+            raise ConventionError(
+                f"output {os.fspath(job.output)!r} would overwrite the input of the same name; "
+                "choose another --out directory",
+                variable="out",
+                expected="an output path that is not an input",
+                found=os.fspath(job.output),
+            )
+    return jobs
+
+
+def _within(path: Path, parent: Path) -> bool:
+    return path == parent or parent in path.parents
+
+
+# --- compute ----------------------------------------------------------------------------
+@contextlib.contextmanager
+def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
+    """Yield ``(client, parallel)``: a distributed client (or None) and tasks in flight.
+
+    ``--scheduler`` connects to a running scheduler; ``--workers N`` starts a
+    local cluster of N single-threaded worker processes, each with an equal
+    share of the memory budget; otherwise Dask's threaded scheduler runs.
+    """
+    if options.workers is not None and options.scheduler is not None:
+        raise ConventionError(
+            "give either --workers (start a local cluster) or --scheduler (use a running one), "
+            "not both",
+            variable="workers",
+            expected="one of --workers, --scheduler",
+            found="both",
+        )
+    if options.workers is None and options.scheduler is None:
+        from dask.system import CPU_COUNT
+
+        yield None, int(CPU_COUNT)
+        return
+    from distributed import Client, LocalCluster
+
+    with contextlib.ExitStack() as stack:
+        if options.scheduler is not None:
+            client = stack.enter_context(Client(options.scheduler, set_as_default=False))
+        else:
+            if options.workers < 1:
+                raise ConventionError(
+                    f"--workers must be at least 1; found {options.workers}",
+                    variable="workers",
+                    expected=">= 1",
+                    found=str(options.workers),
+                )
+            cluster = stack.enter_context(LocalCluster(
+                n_workers=options.workers, threads_per_worker=1, processes=True,
+                memory_limit=max(1, options.memory // options.workers),
+                dashboard_address=None, silence_logs=logging.ERROR,
+            ))
+            client = stack.enter_context(Client(cluster, set_as_default=False))
+        yield client, max(1, sum(client.nthreads().values()))
+
+
+def _computer(client, bar_factory):
+    def compute(delayed) -> None:
+        if client is not None:
+            client.compute(delayed, sync=True)
+            return
+        from dask.callbacks import Callback
+
+        graph = delayed.__dask_graph__()
+        stores = {k for k in graph if "store-map" in _key_name(k)}
+        with bar_factory(len(stores) or len(graph)) as bar:
+            def posttask(key, result, dsk, state, worker_id):
+                if not stores or key in stores:
+                    bar.update(1)
+
+            with Callback(posttask=posttask):
+                delayed.compute()
+
+    return compute
+
+
+def _key_name(key) -> str:
+    return str(key[0] if isinstance(key, tuple) else key)
+
+
+# --- the run ----------------------------------------------------------------------------
+def process(
+    job: Job,
+    operation: Operation,
+    options: RunOptions,
+    *,
+    client=None,
+    parallel: int = 1,
+    bar_factory=None,
+) -> Outcome:
+    """Make one output; any error becomes a ``failed`` :class:`Outcome` (never a partial file).
+
+    ``KeyboardInterrupt`` is not caught: it propagates once the temporary file is gone.
+    """
+    settings = {"command": operation.command, **operation.settings}
+    start = time.perf_counter()
+    if not options.overwrite:
+        current, why = io.is_current(job.output, job.inputs, settings)
+        if current:
+            return Outcome(job, "skipped", why)
+    try:
+        ds, raw = io.open_input(list(job.inputs), memory=options.memory, parallel=parallel,
+                                combine=options.combine)
+        try:
+            result = operation.apply(ds)
+            result = _provenance(result, ds.attrs.get("history"), options.command)
+            to_write, _ = io.prepare_output(result, ds, raw)
+            io.manifest_path(job.output).unlink(missing_ok=True)
+            io.write_atomic(to_write, job.output,
+                            compute=_computer(client, bar_factory or _no_bar))
+        finally:
+            ds.close()
+            if raw is not None:
+                raw.close()
+        io.write_manifest(job.output, job.inputs, settings, command=options.command)
+    except FrameshiftError as exc:
+        reason = _one_line(exc)
+        if exc.variable == "velocity" and "velocity=" in reason:
+            reason += " (on the command line: --velocity eastward=NAME,northward=NAME)"
+        return Outcome(job, "failed", reason, exc.variable, exc.expected, exc.found,
+                       time.perf_counter() - start)
+    except Exception as exc:  # one file's failure must not stop the others
+        return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
+                       seconds=time.perf_counter() - start)
+    return Outcome(job, "written", seconds=time.perf_counter() - start)
+
+
+def _one_line(exc: BaseException) -> str:
+    return " ".join(str(exc).split()) or type(exc).__name__
+
+
+def _provenance(result: xr.Dataset, old_history: str | None, command: str) -> xr.Dataset:
+    """History gains exactly one line: date, frameshift version, command, what was done."""
+    from frameshift import __version__
+
+    new = str(result.attrs.get("history", ""))
+    if old_history and new.startswith(str(old_history)):
+        new = new[len(str(old_history)):]
+    done = [line.split(": ", 1)[-1] for line in new.strip().splitlines() if line.strip()]
+    now = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+    line = f"{now} frameshift {__version__}: {command}"
+    if done:
+        line += f" [{'; '.join(done)}]"
+    attrs = dict(result.attrs)
+    attrs["history"] = f"{old_history}\n{line}" if old_history else line
+    set_conventions(attrs)
+    return result.assign_attrs(attrs)
+
+
+@contextlib.contextmanager
+def _no_bar(total: int):
+    class _Quiet:
+        def update(self, n: int) -> None:
+            pass
+
+    yield _Quiet()
+
+
+def run(
+    paths: Sequence[str | os.PathLike], operation: Operation, options: RunOptions
+) -> Summary:
+    """Apply ``operation`` to every input; return a :class:`Summary` (never raises per file).
+
+    Errors in the arguments themselves (no inputs, an output that would
+    replace an input, bad cluster options) raise before any file is touched.
+
+    Examples
+    --------
+    >>> op = convert_operation("inertial")
+    >>> run(["data_demo"], op, RunOptions(out_dir=Path("out")))  # doctest: +SKIP
+    """
+    jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
+                     combined_name=options.combined_name)
+    summary = Summary()
+    show = options.show_progress()
+    from tqdm.auto import tqdm
+
+    def bar_factory(total: int):
+        return tqdm(total=total, unit="chunk", leave=False, disable=not show,
+                    desc="  chunks", file=sys.stderr)
+
+    with compute_context(options) as (client, parallel), tqdm(
+        total=len(jobs), unit="file", disable=not show, file=sys.stderr, desc=operation.command
+    ) as files_bar:
+        for job in jobs:
+            try:
+                outcome = process(job, operation, options, client=client, parallel=parallel,
+                                  bar_factory=bar_factory)
+            except KeyboardInterrupt:
+                summary.outcomes.append(Outcome(job, "interrupted", "interrupted by the user"))
+                break
+            summary.outcomes.append(outcome)
+            files_bar.update(1)
+            if not options.quiet and outcome.status != "failed":
+                files_bar.write(outcome.line(), file=sys.stdout)
+            if outcome.status == "failed" and options.fail_fast:
+                break
+    return summary
