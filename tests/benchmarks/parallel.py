@@ -1,0 +1,85 @@
+"""B6: B3 on Dask: 1 thread, 2 threads, and a 2-worker local distributed cluster."""
+
+from __future__ import annotations
+
+import dask
+
+import frameshift
+from tests.benchmarks.data import grid_shape, grid_winds
+from tests.benchmarks.harness import Row, median_time, not_available, verdict
+from tests.benchmarks.terms import accelerations_function
+
+__all__ = ["run"]
+
+TARGET = ">= 1.6"
+
+
+def _persist_and_wait(collection, client=None):
+    if client is None:
+        return dask.persist(collection)[0]
+    from distributed import wait
+
+    out = client.persist(collection)
+    wait(out)
+    return out
+
+
+def _case(label: str, fn, ds, repeats: int) -> list[Row]:
+    """Time ``fn(ds)`` persisted: threads 1 and 2, and two worker processes."""
+    sizes = f"{ds['ua'].size:.0e} points {tuple(ds['ua'].shape)}, chunks {dict(ds.chunks)}"
+    t = {}
+    for threads in (1, 2):
+        with dask.config.set(scheduler="threads", num_workers=threads):
+            t[f"{threads} thread(s)"], _ = median_time(lambda: _persist_and_wait(fn(ds)), repeats)
+    from distributed import Client, LocalCluster
+
+    with (
+        LocalCluster(
+            n_workers=2,
+            threads_per_worker=1,
+            processes=True,
+            dashboard_address=None,
+            memory_limit="6GiB",
+        ) as cluster,
+        Client(cluster) as client,
+    ):
+        remote = client.persist(ds)  # the data live on the workers, as they would
+        from distributed import wait
+
+        wait(remote)
+        t["distributed 2 workers"], _ = median_time(
+            lambda: _persist_and_wait(fn(remote), client), repeats
+        )
+    one = t["1 thread(s)"]
+    threads = one / t["2 thread(s)"]
+    workers = one / t["distributed 2 workers"]
+    reps = str(repeats)
+    return [
+        Row("B6", f"{label}: 2 threads", sizes, reps, threads, "speed-up over 1 thread",
+            TARGET, verdict(threads, at_least=1.6), t),
+        Row("B6", f"{label}: 2 distributed workers", sizes, reps, workers,
+            "speed-up over 1 thread", TARGET, verdict(workers, at_least=1.6), t,
+            note="input persisted on the workers; results persisted there (no gather)"),
+    ]  # fmt: skip
+
+
+def run(quick: bool) -> list[Row]:
+    points = 10**6 if quick else 10**7
+    repeats = 3 if quick else 5
+    nlev = grid_shape(points)[1]
+    ds = grid_winds(points, upward=True).chunk({"time": 1, "z": max(1, nlev // 4)})
+    accel = accelerations_function()
+    rows = []
+    if accel is None:
+        rows.append(
+            not_available("B6", "terms on Dask", "apparent_accelerations not found", TARGET)
+        )
+    else:
+        rows += _case("apparent_accelerations", accel, ds, repeats)
+    rows += _case(
+        "to_inertial(basis='cartesian') (extra)",
+        lambda d: frameshift.to_inertial(d, basis="cartesian"),
+        ds,
+        repeats,
+    )
+    return rows
