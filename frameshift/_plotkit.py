@@ -223,7 +223,8 @@ def _is_zero(da: xr.DataArray) -> bool:
     return bool(np.all(np.asarray(da.values) == 0.0))
 
 
-def _zero_panel(ax: Axes, title: str) -> None:
+def _zero_panel(ax: Axes, title: str, keep_ticks: bool = False) -> None:
+    """An empty panel that says its term is zero; without ``keep_ticks``, no y scale."""
     ax.set_title(title)
     ax.text(
         0.5,
@@ -235,7 +236,8 @@ def _zero_panel(ax: Axes, title: str) -> None:
         color="#555555",
     )
     ax.grid(False)
-    ax.tick_params(left=False, bottom=False, labelleft=False, labelbottom=False)
+    if not keep_ticks:
+        ax.tick_params(left=False, labelleft=False)
 
 
 def _nonzero_terms(ds: xr.Dataset, terms: list[str], components: Sequence[str]):

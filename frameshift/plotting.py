@@ -171,9 +171,20 @@ def plot_term_maps(
                 if name not in terms_ds:
                     ax.set_axis_off()
                     continue
+                title = f"{_TERM_LABELS.get(term, term)}, {comp}"
+                ax.set_yticks([-60, -30, 0, 30, 60])
+                if np.ptp(lon) > 300:
+                    start = 0 if lon.min() >= 0 else -180
+                    ax.set_xticks(np.arange(start, start + 361, 60))
+                ax.set_xlim(lon_e[0], lon_e[-1])
+                ax.set_ylim(-90, 90)
+                if i == len(draw) - 1:
+                    ax.set_xlabel("longitude (°E)")
+                if j == 0:
+                    ax.set_ylabel("latitude (°N)")
                 da = pick(terms_ds[name])
                 if _is_zero(da):
-                    _zero_panel(ax, f"{_TERM_LABELS.get(term, term)}, {comp}")
+                    _zero_panel(ax, title, keep_ticks=True)
                     continue
                 exp = _exponent(np.asarray(da.values, dtype=np.float64))
                 vals = _values(da, exp)
@@ -183,18 +194,8 @@ def plot_term_maps(
                 cbar = fig.colorbar(mesh, ax=ax, shrink=0.9, pad=0.02, aspect=18)
                 cbar.set_label(units)
                 cbar.formatter.set_useOffset(False)
-                ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}")
-                ax.set_xlim(lon_e[0], lon_e[-1])
-                ax.set_ylim(-90, 90)
-                ax.set_yticks([-60, -30, 0, 30, 60])
-                if np.ptp(lon) > 300:
-                    start = 0 if lon.min() >= 0 else -180
-                    ax.set_xticks(np.arange(start, start + 361, 60))
+                ax.set_title(title)
                 ax.grid(False)
-                if i == len(draw) - 1:
-                    ax.set_xlabel("longitude (°E)")
-                if j == 0:
-                    ax.set_ylabel("latitude (°N)")
         fig.suptitle("Apparent accelerations of the rotating frame", fontweight="bold")
         _caption(fig, caption, width)
         _save(fig, path, dpi)
