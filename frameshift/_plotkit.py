@@ -263,8 +263,13 @@ def _format_time_axis(ax: Axes) -> None:
 
 
 def _style():
-    import matplotlib
-
+    """The rc context every figure is built and saved in; the one matplotlib import."""
+    try:
+        import matplotlib
+    except ImportError as exc:
+        raise ImportError(
+            "frameshift's figures need matplotlib: pip install 'frameshift[plot]'"
+        ) from exc
     return matplotlib.rc_context(STYLE)
 
 

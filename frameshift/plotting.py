@@ -148,8 +148,11 @@ def plot_term_maps(
     first = pick(sample)
     if vdim is not None:
         where.append(f"at {_coord_text(first[vdim])}")
-    if tname is not None:
-        where.append("time mean" if time == "mean" else f"at {_coord_text(first[tname])}")
+    if tname is not None and time == "mean":
+        t = terms_ds[tname]
+        where.append(f"mean of {t.size} times from {_coord_text(t[0])} to {_coord_text(t[-1])}")
+    elif tname is not None:
+        where.append(f"at {_coord_text(first[tname])}")
     lon = terms_ds[lon_name].values
     lat = terms_ds[lat_name].values
     lon_e, lat_e = _edges(lon), _edges(lat, -90.0, 90.0)
