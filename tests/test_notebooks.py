@@ -1,0 +1,97 @@
+"""The notebooks in notebooks/ run from start to end, and are stored without outputs.
+
+They are executed with nbclient on the ``python3`` kernel, which jupyter_client
+starts with the interpreter running the tests (so the frameshift installed in the
+test environment). A cell that raises fails the test.
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import pytest
+
+nbformat = pytest.importorskip("nbformat", reason="the test extra (nbformat) is not installed")
+nbclient = pytest.importorskip("nbclient", reason="the test extra (nbclient) is not installed")
+pytest.importorskip("ipykernel", reason="the test extra (ipykernel) is not installed")
+pytest.importorskip("matplotlib", reason="the notebooks draw figures (plot extra)")
+
+ROOT = Path(__file__).resolve().parents[1]
+NOTEBOOKS = ROOT / "notebooks"
+NAMES = ["quick_tour", "archive_pipeline"]
+
+
+def _tree(folder: Path) -> set[str]:
+    return {str(p.relative_to(folder)) for p in folder.rglob("*") if "__pycache__" not in p.parts}
+
+
+def _execute(name: str, cwd: Path):
+    notebook = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+    client = nbclient.NotebookClient(
+        notebook,
+        kernel_name="python3",
+        timeout=300,
+        allow_errors=False,
+        resources={"metadata": {"path": str(cwd)}},
+    )
+    client.execute()
+    return notebook
+
+
+def _outputs(notebook) -> tuple[str, int]:
+    text, images = [], 0
+    for cell in notebook.cells:
+        for out in cell.get("outputs", []):
+            if out.get("output_type") == "stream" and out.get("name") == "stdout":
+                text.append(out["text"])
+            data = out.get("data", {})
+            text.append(data.get("text/plain", ""))
+            images += "image/png" in data
+    return "\n".join(text), images
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_stored_without_outputs(name):
+    notebook = nbformat.read(NOTEBOOKS / f"{name}.ipynb", as_version=4)
+    nbformat.validate(notebook)
+    code = [c for c in notebook.cells if c.cell_type == "code"]
+    assert code
+    assert all(c.outputs == [] and c.execution_count is None for c in code)
+    assert notebook.metadata["kernelspec"]["name"] == "python3"
+
+
+@pytest.fixture(scope="module")
+def untouched():
+    """The repository's data and notebook folders are the same after the runs."""
+    before = {d: _tree(ROOT / d) for d in ("data_demo", "notebooks")}
+    yield
+    after = {d: _tree(ROOT / d) for d in ("data_demo", "notebooks")}
+    assert after == before, "a notebook wrote into the repository"
+
+
+@pytest.mark.slow
+def test_quick_tour_runs_from_notebooks_folder(untouched):
+    notebook = _execute("quick_tour", NOTEBOOKS)
+    text, images = _outputs(notebook)
+    assert images == 4  # terms at the mooring, term maps, zonal means, track
+    assert "reference_frame: inertial" in text
+    assert "northward changed: False" in text
+    assert "balloon_terms.png" in text
+    # both round trips (local and Cartesian) come back to the input
+    changes = [float(v) for v in re.findall(r"round trip.*?: (\S+)\n", text)]
+    assert len(changes) == 2 and max(changes) < 1e-9, changes
+
+
+@pytest.mark.slow
+def test_archive_pipeline_runs_from_repository_root(untouched):
+    notebook = _execute("archive_pipeline", ROOT)
+    text, images = _outputs(notebook)
+    assert images == 1
+    assert text.count("lazy=True") == 4  # one line per daily file
+    assert text.count("exit status: 0") == 2
+    assert "ua.reference_frame: inertial" in text
+    assert "standard_name restored: eastward_wind" in text
+    (agree,) = re.findall(r"library vs command line, largest difference \(m s-1\): (\S+)", text)
+    (back,) = re.findall(r"round trip, largest difference \(m s-1\): (\S+)", text)
+    assert float(agree) < 1e-9 and float(back) < 1e-9
