@@ -307,7 +307,7 @@ def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, component
                 )
             elif finite.size and finite.min() < 0 < finite.max():
                 ax.axhline(0.0, color="#777777", lw=0.7, zorder=1)
-            ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}", fontsize=9.5)
+            ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}")
             ax.set_ylabel(unit_label(ds[name].attrs.get("units", "m s-2"), exp))
             _format_time_axis(ax)
             if i == len(draw) - 1:
