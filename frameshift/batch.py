@@ -44,6 +44,9 @@ __all__ = [
 ]
 
 _HAS_MAGIC = set("*?[")
+# A worker process needs room of its own besides its share of the budget:
+# below this, distributed's memory manager would pause it for good.
+_WORKER_FLOOR = 512 * 2**20
 
 
 # --- what to do -----------------------------------------------------------------------
@@ -311,8 +314,10 @@ def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
     """Yield ``(client, parallel)``: a distributed client (or None) and tasks in flight.
 
     ``--scheduler`` connects to a running scheduler; ``--workers N`` starts a
-    local cluster of N single-threaded worker processes, each with an equal
-    share of the memory budget; otherwise Dask's threaded scheduler runs.
+    local cluster of N single-threaded worker processes, each limited to an
+    equal share of the memory budget (at least 512 MiB); otherwise Dask's threaded scheduler runs.
+    The client is the default scheduler inside the block, so xarray opens
+    and writes files with the distributed lock.
     """
     if options.workers is not None and options.scheduler is not None:
         raise ConventionError(
@@ -331,7 +336,7 @@ def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
 
     with contextlib.ExitStack() as stack:
         if options.scheduler is not None:
-            client = stack.enter_context(Client(options.scheduler, set_as_default=False))
+            client = stack.enter_context(Client(options.scheduler))
         else:
             if options.workers < 1:
                 raise ConventionError(
@@ -342,10 +347,10 @@ def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
                 )
             cluster = stack.enter_context(LocalCluster(
                 n_workers=options.workers, threads_per_worker=1, processes=True,
-                memory_limit=max(1, options.memory // options.workers),
+                memory_limit=max(options.memory // options.workers, _WORKER_FLOOR),
                 dashboard_address=None, silence_logs=logging.ERROR,
             ))
-            client = stack.enter_context(Client(cluster, set_as_default=False))
+            client = stack.enter_context(Client(cluster))
         yield client, max(1, sum(client.nthreads().values()))
 
 
