@@ -1,0 +1,250 @@
+"""The ``frameshift`` command line, end to end on the bundled (invented) demo files.
+
+Outside sources: the IOOS compliance checker's CF 1.11 suite for every file
+the command line writes (``assert_cf_clean``), CF conventions 1.11 §2.6.2 for
+``history`` and ``Conventions``.
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import netCDF4
+import numpy as np
+import pytest
+import xarray as xr
+
+import frameshift
+from frameshift.cli import main, parse_velocity
+from frameshift.errors import ConventionError
+from tests.test_io import _fail_after, assert_cf_clean, assert_same_stored
+
+DEMO = Path(__file__).resolve().parent.parent / "data_demo"
+WIND = "eastward=wspd_u,northward=wspd_v"
+#: files with real (standard-calendar) time, which the Cartesian basis needs
+TIMED = ["balloon_track.nc", "global_winds.nc", "shelf_mooring.nc", "tiny_example.nc"]
+
+
+def _run(*args: str) -> int:
+    return main([*map(str, args)])
+
+
+@pytest.fixture(scope="module")
+def runs(tmp_path_factory) -> Path:
+    """Every conversion the CLI offers, once, on the demo files (about 5 s)."""
+    root = tmp_path_factory.mktemp("cli")
+    packed = DEMO / "packed_knots.nc"
+    timed = [DEMO / n for n in TIMED]
+    steps = [
+        ("convert", *timed, "--out", root / "local"),
+        ("convert", packed, "--velocity", WIND, "--out", root / "local"),
+        ("convert", *[root / "local" / n for n in TIMED], "--to", "rotating",
+         "--out", root / "local_back"),
+        ("convert", root / "local" / "packed_knots.nc", "--velocity", WIND, "--to", "rotating",
+         "--out", root / "local_back"),
+        ("convert", *timed, "--basis", "cartesian", "--out", root / "cart"),
+        ("convert", root / "cart", "--to", "rotating", "--basis", "cartesian",
+         "--out", root / "cart_back"),
+        ("convert", *timed[:2], "--basis", "cartesian", "--celestial", "gcrs",
+         "--out", root / "gcrs"),
+        ("terms", *timed, "--out", root / "terms"),
+        ("terms", packed, "--velocity", WIND, "--terms", "coriolis,centrifugal",
+         "--traditional", "--out", root / "terms"),
+    ]
+    for step in steps:
+        assert _run(*step, "--quiet") == 0, step
+    return root
+
+
+def test_local_round_trip_restores_the_input(runs):
+    for name in [*TIMED, "packed_knots.nc"]:
+        with xr.open_dataset(DEMO / name) as a, xr.open_dataset(runs / "local_back" / name) as b:
+            for var in a.data_vars:
+                x, y = a[var].values.astype(np.float64), b[var].values.astype(np.float64)
+                assert np.array_equal(np.isnan(x), np.isnan(y)), (name, var)
+                scale = np.nanmax(np.abs(x))
+                # 1e-12 relative to the field's largest magnitude
+                assert np.nanmax(np.abs(y - x)) <= 1e-12 * scale, (name, var)
+
+
+def test_local_round_trip_keeps_untouched_variables_byte_for_byte(runs):
+    # packed int16 with scale_factor/add_offset/_FillValue/missing_value and a noleap calendar
+    with netCDF4.Dataset(DEMO / "packed_knots.nc") as a, \
+            netCDF4.Dataset(runs / "local_back" / "packed_knots.nc") as b, \
+            netCDF4.Dataset(runs / "local" / "packed_knots.nc") as mid:
+        for nc in (a, b, mid):
+            nc.set_auto_maskandscale(False)
+        for var in ("cur_u", "cur_v", "sea_water_temperature", "time", "lat", "lon",
+                    "station_name"):
+            assert_same_stored(a[var], b[var])
+            assert_same_stored(a[var], mid[var])
+        assert b["time"].calendar == "noleap" and b["time"].units == "hours since 2004-01-01"
+        # the northward wind keeps its values and packing (lossless); the eastward wind
+        # got new values, so it is float, compressed and not re-packed
+        np.testing.assert_array_equal(a["wspd_v"][:], mid["wspd_v"][:])
+        east = mid["wspd_u"]
+        assert east.dtype == np.float64 and east.filters()["zlib"]
+        assert "scale_factor" not in east.ncattrs() and "add_offset" not in east.ncattrs()
+    for name in TIMED:
+        with xr.open_dataset(DEMO / name) as ds:
+            moved = set(frameshift.detect.find_velocity(ds).names())
+        with netCDF4.Dataset(DEMO / name) as a, netCDF4.Dataset(runs / "local" / name) as b:
+            a.set_auto_maskandscale(False)
+            b.set_auto_maskandscale(False)
+            for var in set(a.variables) - moved:
+                assert_same_stored(a[var], b[var])
+
+
+def test_cartesian_round_trip_restores_the_velocities(runs):
+    for name in TIMED:
+        with xr.open_dataset(DEMO / name) as a, xr.open_dataset(runs / "cart_back" / name) as b, \
+                xr.open_dataset(runs / "cart" / name) as c:
+            speed = float(np.sqrt((c["velocity"] ** 2).sum("component")).max())
+            vset = frameshift.detect.find_velocity(a)
+            for var in vset.names():
+                # the inertial speed (~465 m s-1 at most) sets the size of rounding errors
+                np.testing.assert_allclose(b[var].values, a[var].values, rtol=0,
+                                           atol=1e-12 * speed, err_msg=f"{name}:{var}")
+            assert b[vset.eastward].attrs["reference_frame"] == "rotating"
+
+
+def test_every_written_file_passes_the_cf_checker(runs):
+    written = sorted(runs.rglob("*.nc"))
+    # local and back (5 files each), Cartesian and back (4 each), GCRS (2), terms (5)
+    assert len(written) == 5 + 5 + 4 + 4 + 2 + 5
+    for path in written:
+        assert_cf_clean(path)  # IOOS compliance checker, cf:1.11: no errors, no warnings
+
+
+def test_provenance(runs):
+    # CF 1.11 §2.6.2: history gets one line per program run; Conventions names CF
+    with xr.open_dataset(DEMO / "shelf_mooring.nc") as a, \
+            xr.open_dataset(runs / "cart" / "shelf_mooring.nc") as b:
+        old, new = a.attrs["history"].splitlines(), b.attrs["history"].splitlines()
+        assert new[:-1] == old and len(new) == len(old) + 1
+        line = new[-1]
+        assert f"frameshift {frameshift.__version__}:" in line
+        assert "frameshift convert" in line and "--basis cartesian" in line
+        assert "to_inertial(basis='cartesian'" in line
+        assert b.attrs["Conventions"] == "CF-1.11"
+        assert b["velocity"].attrs["reference_frame"] == "inertial"
+        assert b["velocity"].attrs["inertial_axes"] == "CIRS"
+    with xr.open_dataset(runs / "gcrs" / "global_winds.nc") as g:
+        assert g["velocity"].attrs["inertial_axes"] == "GCRS"
+    with xr.open_dataset(runs / "local" / "tiny_example.nc") as loc:
+        for var in ("eastward_wind", "northward_wind"):
+            assert loc[var].attrs["reference_frame"] == "inertial"
+    json.loads((runs / "local" / "tiny_example.nc.frameshift.json").read_text())
+
+
+def test_terms_output(runs):
+    with xr.open_dataset(runs / "terms" / "packed_knots.nc") as t:
+        assert {"coriolis_eastward", "centrifugal_upward", "total_northward"} <= set(t.data_vars)
+        assert "euler_eastward" not in t
+        assert all(t[v].attrs["units"] == "m s-2" for v in t.data_vars)
+        # --traditional: no upward Coriolis term
+        assert float(np.abs(t["coriolis_upward"]).max()) == 0.0
+
+
+def test_failures_give_one_line_each_and_a_nonzero_exit(tmp_path, capsys):
+    code = _run("convert", DEMO / "packed_knots.nc", DEMO / "tiny_example.nc",
+                "--out", tmp_path, "--quiet")
+    assert code == 1
+    err = capsys.readouterr().err.splitlines()
+    failed = [line for line in err if line.startswith("FAILED")]
+    assert len(failed) == 1
+    assert "packed_knots.nc" in failed[0] and "variable 'velocity'" in failed[0]
+    assert "--velocity eastward=NAME,northward=NAME" in failed[0]
+    assert (tmp_path / "tiny_example.nc").exists()
+
+
+def test_quiet_success_prints_nothing(tmp_path, capsys):
+    assert _run("convert", DEMO / "tiny_example.nc", "--out", tmp_path, "--quiet") == 0
+    out = capsys.readouterr()
+    assert out.out == "" and out.err == ""
+    assert _run("convert", DEMO / "tiny_example.nc", "--out", tmp_path) == 0
+    assert "skipped" in capsys.readouterr().out
+
+
+def test_bad_arguments_exit_2_with_a_reason(tmp_path, capsys):
+    copy = tmp_path / "tiny_example.nc"
+    shutil.copy(DEMO / "tiny_example.nc", copy)
+    assert _run("convert", copy, "--out", tmp_path) == 2
+    assert "would overwrite the input" in capsys.readouterr().err
+    assert _run("convert", copy, "--out", tmp_path / "o", "--memory", "plenty") == 2
+    assert "memory budget 'plenty'" in capsys.readouterr().err
+    assert _run("convert", tmp_path / "absent.nc", "--out", tmp_path / "o") == 2
+    with pytest.raises(SystemExit) as info:
+        _run("convert", copy, "--out", tmp_path / "o", "--basis", "spherical")
+    assert info.value.code == 2
+    assert copy.read_bytes() == (DEMO / "tiny_example.nc").read_bytes()  # input untouched
+
+
+def test_ctrl_c_exits_130_and_leaves_no_partial_file(tmp_path, monkeypatch, capsys):
+    _fail_after(monkeypatch, 1, KeyboardInterrupt)
+    assert _run("convert", DEMO / "shelf_mooring.nc", "--out", tmp_path, "--quiet") == 130
+    assert list(tmp_path.iterdir()) == []
+    assert "INTERRUPTED" in capsys.readouterr().err
+
+
+def test_parse_velocity():
+    assert parse_velocity("eastward=U, northward=V,upward=W") == {
+        "eastward": "U", "northward": "V", "upward": "W"}
+    with pytest.raises(ConventionError) as info:
+        parse_velocity("U,V")
+    assert info.value.variable == "velocity"
+
+
+@pytest.mark.parametrize("command", ["convert", "terms", "inspect", "demo"])
+def test_help_has_examples(command, capsys):
+    with pytest.raises(SystemExit) as info:
+        main([command, "--help"])
+    assert info.value.code == 0
+    assert "examples:" in capsys.readouterr().out
+
+
+def test_module_and_console_script_run():
+    version = f"frameshift {frameshift.__version__}"
+    res = subprocess.run([sys.executable, "-m", "frameshift", "--version"],
+                         capture_output=True, text=True, check=True)
+    assert res.stdout.strip() == version
+    script = Path(sys.executable).with_name("frameshift")
+    if script.exists():  # installed with the package's console script
+        res = subprocess.run([script, "--version"], capture_output=True, text=True, check=True)
+        assert res.stdout.strip() == version
+
+
+def test_inspect_reports_detection_and_refusals(capsys):
+    assert _run("inspect", DEMO / "packed_knots.nc", DEMO / "balloon_track.nc") == 0
+    text = capsys.readouterr().out
+    assert "more than one set of velocities" in text
+    assert "calendar noleap" in text
+    assert "convert --to inertial --basis cartesian: refused" in text
+    assert "eastward  u [m s-1] eastward_wind" in text
+    assert _run("inspect", DEMO / "packed_knots.nc", "--velocity", WIND, "--json") == 0
+    report = json.loads(capsys.readouterr().out)[0]
+    assert report["velocity"]["eastward"]["variable"] == "wspd_u"
+    assert report["velocity"]["eastward"]["units"] == "knot"
+    assert report["operations"]["convert --to inertial --basis local"] == "ok"
+    assert "noleap" in report["operations"]["convert --to inertial --basis cartesian"]
+    assert report["time"]["calendar"] == "noleap"
+
+
+def test_demo_runs_and_reruns(tmp_path, capsys):
+    out = tmp_path / "demo"
+    assert _run("demo", "--out", out) == 0
+    table = capsys.readouterr().out.splitlines()
+    assert table[0].split() == ["file", "step", "status", "result"]
+    assert len(table) == 1 + 5 * 3
+    refused = [row for row in table if "refused" in row]
+    assert len(refused) == 1 and "packed_knots.nc" in refused[0] and "noleap" in refused[0]
+    assert (out / "inertial_cartesian" / "shelf_mooring.nc").exists()
+    assert (out / "terms" / "global_winds.nc").exists()
+    from frameshift import demo
+
+    rows = demo.run(out, quiet=True)
+    assert {r.status for r in rows} == {"skipped", "refused"}
