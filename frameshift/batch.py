@@ -336,7 +336,15 @@ def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
 
     with contextlib.ExitStack() as stack:
         if options.scheduler is not None:
-            client = stack.enter_context(Client(options.scheduler))
+            try:
+                client = stack.enter_context(Client(options.scheduler, timeout="20s"))
+            except (OSError, TimeoutError, ValueError) as exc:
+                raise ConventionError(
+                    f"cannot reach the Dask scheduler {options.scheduler!r}: {_one_line(exc)}",
+                    variable="scheduler",
+                    expected="the address of a running scheduler, e.g. tcp://host:8786",
+                    found=options.scheduler,
+                ) from exc
         else:
             if options.workers < 1:
                 raise ConventionError(

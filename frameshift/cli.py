@@ -301,6 +301,9 @@ def describe(ds, velocity=None) -> dict:
             break
         except FrameshiftError as exc:
             error = error or exc
+    cartesian = _cartesian_report(ds)
+    if cartesian is not None:
+        report["cartesian"] = cartesian
     if layout is None:
         report["velocity"] = {"refused": _reason(error)}
     else:
@@ -330,6 +333,17 @@ def describe(ds, velocity=None) -> dict:
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity)
     return report
+
+
+def _cartesian_report(ds) -> dict | None:
+    """Inertial position/velocity on x, y, z axes, as ``--basis cartesian`` writes them."""
+    names = [n for n in ("position", "velocity")
+             if n in ds.data_vars and "component" in ds[n].dims]
+    if not names:
+        return None
+    return {n: {"units": ds[n].attrs.get("units"),
+                "frame": ds[n].attrs.get("reference_frame"),
+                "axes": ds[n].attrs.get("inertial_axes")} for n in names}
 
 
 def _time_report(ds, layout) -> dict | None:
@@ -409,8 +423,12 @@ def _text(entry: dict) -> str:
     dims = ", ".join(f"{k}={v}" for k, v in entry["dimensions"].items())
     lines.append(f"  dimensions: {dims}")
     vel = entry["velocity"]
+    for name, c in entry.get("cartesian", {}).items():
+        lines.append(f"  {name} [{c['units']}] relative to the {c['frame']} frame "
+                     f"on {c['axes']} x/y/z axes")
     if "refused" in vel:
-        lines.append(f"  velocity: none usable: {vel['refused']}")
+        if "cartesian" not in entry:  # a Cartesian file has no east/north velocity, rightly
+            lines.append(f"  velocity: none usable: {vel['refused']}")
     else:
         lines.append(f"  velocity ({vel['family']}):")
         for comp in ("eastward", "northward", "upward"):

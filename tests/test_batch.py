@@ -205,3 +205,27 @@ def test_terms_operation_writes_the_library_result(tmp_path):
         for name in expected.data_vars:
             np.testing.assert_array_equal(got[name].values, expected[name].values)
             assert got[name].attrs["units"] == "m s-2"
+
+
+@pytest.mark.parametrize("basis", ["local", "cartesian"])
+def test_nothing_is_computed_before_the_write(basis):
+    # Dask-backed input stays lazy: the operation and the output plan compute nothing
+    from tests.helpers import raise_if_dask_computes
+
+    ds, raw = io.open_input(DEMO / "shelf_mooring.nc", memory=10**6)
+    with ds, raw, raise_if_dask_computes():
+        result = batch.convert_operation(basis=basis).apply(ds)
+        to_write, how = io.prepare_output(result, ds, raw)
+    assert all(to_write[n].chunks for n, h in how.items() if h == "computed" and to_write[n].ndim
+               and n != io.LABEL)
+
+
+def test_unreadable_file_fails_alone(tmp_path):
+    bad = tmp_path / "in" / "broken.nc"
+    bad.parent.mkdir()
+    bad.write_text("this is not NetCDF")
+    shutil.copy(DEMO / "tiny_example.nc", tmp_path / "in" / "tiny_example.nc")
+    summary = batch.run([tmp_path / "in"], batch.convert_operation(), _options(tmp_path / "o"))
+    status = {o.job.inputs[0].name: o.status for o in summary.outcomes}
+    assert status == {"broken.nc": "failed", "tiny_example.nc": "written"}
+    assert not (tmp_path / "o" / "broken.nc").exists()

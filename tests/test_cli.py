@@ -248,3 +248,10 @@ def test_demo_runs_and_reruns(tmp_path, capsys):
 
     rows = demo.run(out, quiet=True)
     assert {r.status for r in rows} == {"skipped", "refused"}
+
+
+def test_inspect_recognises_cartesian_output(runs, capsys):
+    assert _run("inspect", runs / "cart" / "shelf_mooring.nc") == 0
+    text = capsys.readouterr().out
+    assert "velocity [m s-1] relative to the inertial frame on CIRS x/y/z axes" in text
+    assert "convert --to rotating --basis cartesian: ok" in text
