@@ -96,9 +96,10 @@ def run(
 
     Examples
     --------
-    >>> rows = run("frameshift_demo_output", quiet=True)  # doctest: +SKIP
-    >>> rows[0].step
-    'inertial_local'
+    >>> import tempfile
+    >>> rows = run(tempfile.mkdtemp(), quiet=True)
+    >>> rows[0].step, rows[0].status
+    ('inertial_local', 'written')
     """
     out_dir = Path(out_dir)
     data = find_demo_data()

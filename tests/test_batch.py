@@ -229,3 +229,26 @@ def test_unreadable_file_fails_alone(tmp_path):
     status = {o.job.inputs[0].name: o.status for o in summary.outcomes}
     assert status == {"broken.nc": "failed", "tiny_example.nc": "written"}
     assert not (tmp_path / "o" / "broken.nc").exists()
+
+
+def test_360_day_calendar_time_is_copied_as_stored(tmp_path):
+    import netCDF4
+
+    from tests.helpers import station_dataset
+    from tests.test_io import assert_same_stored
+
+    ds = station_dataset().drop_vars("time")
+    ds = ds.assign_coords(time=("time", np.array([0.0, 0.25, 359.75, 360.0]),
+                                {"standard_name": "time", "units": "days since 2030-01-01",
+                                 "calendar": "360_day"}))
+    src = tmp_path / "model.nc"
+    ds.to_netcdf(src)
+    summary = batch.run([src], batch.convert_operation(), _options(tmp_path / "o"))
+    assert [o.status for o in summary.outcomes] == ["written"]
+    with netCDF4.Dataset(src) as a, netCDF4.Dataset(tmp_path / "o" / "model.nc") as b:
+        a.set_auto_maskandscale(False)
+        b.set_auto_maskandscale(False)
+        for name in ("time", "depth", "lat", "lon"):
+            assert_same_stored(a[name], b[name])
+        np.testing.assert_array_equal(a["v"][:], b["v"][:])  # northward: values unchanged
+        assert b["time"].calendar == "360_day"
