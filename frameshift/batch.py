@@ -18,7 +18,7 @@ import logging
 import os
 import sys
 import time
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -122,7 +122,7 @@ def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
     return dict(velocity) if velocity is not None else None
 
 
-def _accelerations():
+def _accelerations() -> Callable[..., xr.Dataset]:
     try:
         from frameshift.accelerations import apparent_accelerations
     except ImportError as exc:
@@ -362,7 +362,7 @@ def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
         yield client, max(1, sum(client.nthreads().values()))
 
 
-def _computer(client, bar_factory):
+def _computer(client: object | None, bar_factory: Callable) -> Callable[[object], None]:
     def compute(delayed) -> None:
         if client is not None:
             client.compute(delayed, sync=True)
@@ -382,7 +382,7 @@ def _computer(client, bar_factory):
     return compute
 
 
-def _key_name(key) -> str:
+def _key_name(key: object) -> str:
     return str(key[0] if isinstance(key, tuple) else key)
 
 
@@ -392,9 +392,9 @@ def process(
     operation: Operation,
     options: RunOptions,
     *,
-    client=None,
+    client: object | None = None,
     parallel: int = 1,
-    bar_factory=None,
+    bar_factory: Callable | None = None,
 ) -> Outcome:
     """Make one output; any error becomes a ``failed`` :class:`Outcome` (never a partial file).
 

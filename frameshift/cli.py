@@ -11,10 +11,16 @@ from __future__ import annotations
 import argparse
 import shlex
 import sys
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from frameshift.errors import ConventionError, FrameshiftError
+
+if TYPE_CHECKING:
+    import xarray as xr
+
+    from frameshift.batch import Operation, RunOptions
 
 __all__ = ["build_parser", "describe", "main", "parse_height", "parse_velocity"]
 
@@ -207,7 +213,7 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _options(args: argparse.Namespace, command: str):
+def _options(args: argparse.Namespace, command: str) -> RunOptions:
     from frameshift.batch import RunOptions
     from frameshift.io import default_memory, parse_memory
 
@@ -278,7 +284,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 # --- inspect ----------------------------------------------------------------------------
-def describe(ds, velocity=None) -> dict:
+def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
     """What frameshift finds in ``ds`` and what each operation would do with it.
 
     Detection is :func:`frameshift.detect.find_layout`; whether an operation
@@ -335,7 +341,7 @@ def describe(ds, velocity=None) -> dict:
     return report
 
 
-def _cartesian_report(ds) -> dict | None:
+def _cartesian_report(ds: xr.Dataset) -> dict | None:
     """Inertial position/velocity on x, y, z axes, as ``--basis cartesian`` writes them."""
     names = [n for n in ("position", "velocity")
              if n in ds.data_vars and "component" in ds[n].dims]
@@ -346,7 +352,7 @@ def _cartesian_report(ds) -> dict | None:
                 "axes": ds[n].attrs.get("inertial_axes")} for n in names}
 
 
-def _time_report(ds, layout) -> dict | None:
+def _time_report(ds: xr.Dataset, layout: object) -> dict | None:
     from frameshift.detect import find_time
 
     name = layout.time if layout is not None else find_time(ds)
@@ -360,7 +366,7 @@ def _time_report(ds, layout) -> dict | None:
             "last": str(values.max()) if values.size else None}
 
 
-def _operations(ds, velocity) -> dict:
+def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None) -> dict:
     from frameshift import batch
 
     ops = {}
@@ -373,7 +379,7 @@ def _operations(ds, velocity) -> dict:
     return ops
 
 
-def _try(operation, ds) -> str:
+def _try(operation: Operation, ds: xr.Dataset) -> str:
     try:
         operation.apply(ds)
     except FrameshiftError as exc:
@@ -383,14 +389,15 @@ def _try(operation, ds) -> str:
     return "ok"
 
 
-def _reason(exc) -> str:
+def _reason(exc: BaseException | None) -> str:
     text = " ".join(str(exc).split())
     if getattr(exc, "variable", None):
         text += f" [variable={exc.variable}; expected {exc.expected}; found {exc.found}]"
     return text
 
 
-def _inspect(inputs, *, velocity=None, as_json=False) -> int:
+def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None,
+             as_json: bool = False) -> int:
     import json
 
     from frameshift.batch import find_inputs
