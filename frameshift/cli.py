@@ -59,7 +59,7 @@ _EPILOG_DEMO = """\
 examples:
   frameshift demo
       convert the bundled invented demo files into ./frameshift_demo_output
-  frameshift demo --out /tmp/fs_demo --overwrite"""
+  frameshift demo --out demo_run --overwrite"""
 
 
 def parse_velocity(text: str) -> dict[str, str]:
