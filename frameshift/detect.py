@@ -96,7 +96,7 @@ def find_velocity(
     if velocity is not None:
         vset = _velocity_from_mapping(ds, velocity)
     else:
-        vset = _velocity_from_metadata(ds)
+        vset = _velocity_from_metadata(ds, target)
     for comp, name in vset.items():
         _check_not_in(ds, name, target)
         parse_units(name, ds[name].attrs.get("units"), "speed")
@@ -157,7 +157,7 @@ def _velocity_from_mapping(ds: xr.Dataset, velocity: Mapping[str, str]) -> Veloc
     return VelocitySet(family, velocity["eastward"], velocity["northward"], velocity.get("upward"))
 
 
-def _velocity_from_metadata(ds: xr.Dataset) -> VelocitySet:
+def _velocity_from_metadata(ds: xr.Dataset, target: str) -> VelocitySet:
     found: dict[str, dict[str, list[str]]] = {}
     grid_relative = []
     for name, var in ds.variables.items():
@@ -169,6 +169,20 @@ def _velocity_from_metadata(ds: xr.Dataset) -> VelocitySet:
                 if std == sname:
                     found.setdefault(fam, {}).setdefault(comp, []).append(str(name))
     complete = {f: c for f, c in found.items() if "eastward" in c and "northward" in c}
+    # Where some sets are already in the target frame and others are not (a file
+    # whose winds were converted and whose currents were not), the set still to
+    # convert is the one meant; with none left, the frame check below explains.
+    convertible = {
+        f: {k: [n for n in names if _frame_of(ds[n]) != target] for k, names in c.items()}
+        for f, c in complete.items()
+    }
+    convertible = {
+        f: {k: n for k, n in c.items() if n}
+        for f, c in convertible.items()
+        if c.get("eastward") and c.get("northward")
+    }
+    if convertible:
+        complete = convertible
     if not complete:
         if grid_relative:
             _refuse_grid_relative(
@@ -217,12 +231,18 @@ def _refuse_grid_relative(name: str, std: str | None) -> None:
         )
 
 
+def _frame_of(var: xr.DataArray) -> str | None:
+    """The frame a velocity is relative to, from its attributes (None if unknown)."""
+    frame = var.attrs.get("reference_frame")
+    if frame is None and _std(var):
+        # Earth-relative standard names mean "relative to the rotating body".
+        frame = ROTATING
+    return frame
+
+
 def _check_not_in(ds: xr.Dataset, name: str, target: str) -> None:
     attrs = ds[name].attrs
-    frame = attrs.get("reference_frame")
-    if frame is None:
-        # Earth-relative standard names mean "relative to the rotating body".
-        frame = ROTATING if _std(ds[name]) else None
+    frame = _frame_of(ds[name])
     if frame == target:
         raise FrameError(
             f"variable {name!r} is already relative to the {target} frame "

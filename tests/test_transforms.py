@@ -272,3 +272,18 @@ def test_depth_is_positive_down():
         (OMEGA * np.cos(np.deg2rad(ds["lat"])) * 40.0).values[:, None] * np.ones(ds.sizes["time"]),
         rtol=1e-9,
     )
+
+
+def test_the_set_still_to_convert_is_found_where_another_set_was_left_alone():
+    ds = BUILDERS["grid"]()
+    currents = {"standard_name": "eastward_sea_water_velocity", "units": "m s-1"}
+    ds["uo"] = ds["ua"].copy(deep=True).assign_attrs(currents)
+    ds["vo"] = ds["va"].copy(deep=True).assign_attrs(
+        currents, standard_name="northward_sea_water_velocity"
+    )
+    with pytest.raises(UnsupportedInputError, match="more than one set"):
+        frameshift.to_inertial(ds)
+    out = frameshift.to_inertial(ds, velocity={"eastward": "ua", "northward": "va"})
+    back = frameshift.to_rotating(out)  # only the winds are inertial: no choice needed
+    np.testing.assert_allclose(back["ua"].values, ds["ua"].values, rtol=1e-12)
+    assert back["uo"].attrs == ds["uo"].attrs
