@@ -1,11 +1,128 @@
-"""B4: the command line converting a large NetCDF file, beside a plain xarray copy."""
+"""B4: the command line converting a large NetCDF file, beside a plain xarray copy.
+
+Each command runs in its own process under a small wrapper that reports the
+command's wall time and peak resident memory (``ru_maxrss`` of its only
+child). The input (written first, in a temporary directory) has winds
+``ua``, ``va`` as uncompressed float32 in one HDF5 chunk per time step.
+Baselines: xarray opening the file lazily in its own chunks and writing it
+again (a) with the input's encoding and (b) with the encoding of the
+variables of frameshift's output (float64 ``ua``, its HDF5 chunks), so that
+(b) writes the same bytes frameshift writes. The command line also syncs
+its output to disk before renaming it into place; the plain copies do not.
+"""
 
 from __future__ import annotations
 
-from tests.benchmarks.harness import Row, not_available
+import json
+import shutil
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+from tests.benchmarks.archive_jobs import GRID
+from tests.benchmarks.harness import Row, not_available, verdict
 
 __all__ = ["run"]
 
+TARGET_TIME = "<= 1.3"
+TARGET_MEMORY = "<= 1 GB"
+_CLI = "import sys; from frameshift.cli import main; sys.exit(main(sys.argv[1:]))"
+
+
+def _cli_available() -> bool:
+    try:
+        from frameshift import cli
+    except ImportError:
+        return False
+    return "convert" in cli.build_parser().format_help()
+
+
+def _measure(cmd: list[str]) -> dict:
+    wrapper = [sys.executable, "-m", "tests.benchmarks.archive_jobs", "measure", "--", *cmd]
+    done = subprocess.run(wrapper, capture_output=True, text=True, check=True)
+    result = json.loads(done.stdout.strip().splitlines()[-1])
+    if result["returncode"] != 0:
+        raise RuntimeError(f"{cmd[:4]}... failed: {result['stderr_tail']}")
+    return result
+
+
+def _file_bytes(ntime: int) -> int:
+    nlev, nlat, nlon = GRID
+    return 2 * 4 * ntime * nlev * nlat * nlon
+
 
 def run(quick: bool) -> list[Row]:
-    return [not_available("B4", "archive conversion", "not written yet", "<= 1.3, <= 1 GB")]
+    if not _cli_available():
+        return [not_available("B4", "archive conversion", "no `frameshift convert`", TARGET_TIME)]
+    ntime = 8 if quick else 104  # 0.17 GB or 2.16 GB
+    repeats = 1 if quick else 2
+    free = shutil.disk_usage(tempfile.gettempdir()).free
+    if free < 4 * _file_bytes(ntime):
+        return [not_available("B4", "archive conversion", f"only {free / 1e9:.1f} GB free")]
+    tmp = Path(tempfile.mkdtemp(prefix="frameshift-b4-"))
+    try:
+        return _run(tmp, ntime, repeats, quick)
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
+def _run(tmp: Path, ntime: int, repeats: int, quick: bool) -> list[Row]:
+    py = sys.executable
+    src = tmp / "winds.nc"
+    subprocess.run([py, "-m", "tests.benchmarks.archive_jobs", "make", str(src), str(ntime)],
+                   check=True)  # fmt: skip
+    size = src.stat().st_size
+    out_dir = tmp / "out"
+    converted = out_dir / src.name
+    reference = tmp / "reference.nc"  # one converted file, whose encoding baseline (b) copies
+    commands = {
+        "frameshift convert": [py, "-c", _CLI, "convert", str(src), "--out", str(out_dir),
+                               "--quiet", "--overwrite"],
+        "xarray copy, input encoding": [py, "-m", "tests.benchmarks.archive_jobs", "copy",
+                                        str(src), str(tmp / "copy.nc")],
+        "xarray copy, frameshift's encoding": [py, "-m", "tests.benchmarks.archive_jobs",
+                                               "copy", str(src), str(tmp / "copy.nc"),
+                                               str(reference)],
+    }  # fmt: skip
+    _measure(commands["frameshift convert"])  # warm the page cache and the imports
+    shutil.copy(converted, reference)
+    results: dict[str, list[dict]] = {k: [] for k in commands}
+    for _ in range(repeats):  # interleaved, so drifts in the machine hit all alike
+        for name, cmd in commands.items():
+            results[name].append(_measure(cmd))
+            (tmp / "copy.nc").unlink(missing_ok=True)
+            shutil.rmtree(out_dir, ignore_errors=True)
+    extra_sizes = {}
+    if not quick:  # peak memory must not grow with the file: a quarter-size file too
+        small = tmp / "small" / "winds.nc"
+        small.parent.mkdir()
+        subprocess.run([py, "-m", "tests.benchmarks.archive_jobs", "make", str(small),
+                        str(ntime // 4)], check=True)  # fmt: skip
+        r = _measure([py, "-c", _CLI, "convert", str(small), "--out", str(tmp / "small_out"),
+                      "--quiet", "--overwrite"])  # fmt: skip
+        extra_sizes[f"{small.stat().st_size / 1e9:.2f} GB file"] = r["peak_rss_bytes"]
+
+    def median(name: str, key: str) -> float:
+        values = sorted(r[key] for r in results[name])
+        return values[len(values) // 2] if len(values) % 2 else sum(values) / len(values)
+
+    wall = {k: median(k, "wall_s") for k in commands}
+    peak = {k: max(r["peak_rss_bytes"] for r in results[k]) for k in commands}
+    fs = "frameshift convert"
+    sizes = (f"{size / 1e9:.2f} GB NetCDF, ua/va float32 {(ntime, *GRID)} (time, z, lat, lon), "
+             "uncompressed; default --memory")  # fmt: skip
+    reps = f"{repeats} each (+1 warm-up)"
+    mem = {k: f"{v / 1e6:.0f} MB" for k, v in peak.items()}
+    mem.update({f"frameshift, {k}": f"{v / 1e6:.0f} MB" for k, v in extra_sizes.items()})
+    rows = []
+    for base in ("xarray copy, input encoding", "xarray copy, frameshift's encoding"):
+        ratio = wall[fs] / wall[base]
+        rows.append(Row("B4", f"CLI convert vs {base}", sizes, reps, ratio,
+                        "wall time frameshift / copy", TARGET_TIME,
+                        verdict(ratio, at_most=1.3), {fs: wall[fs], base: wall[base]}))  # fmt: skip
+    gb = peak[fs] / 1e9
+    rows.append(Row("B4", "CLI convert peak resident memory", sizes, reps, gb, "GB",
+                    TARGET_MEMORY, verdict(gb, at_most=1.0), extra=mem,
+                    note="peak RSS of each command's process (ru_maxrss)"))  # fmt: skip
+    return rows
