@@ -205,8 +205,8 @@ def accelerations(
     --------
     >>> out = accelerations(45.0, 0.0, 10.0, 0.0, 7.292115e-5, 0.0, 0.0, 0.0,
     ...                     a=6378137.0, f=1 / 298.257223563, terms=("coriolis",))
-    >>> round(float(out[1]) * 1e4, 6)  # northward: -f u
-    -10.31261
+    >>> round(float(out[1]), 9)  # northward: -f u with f = 1.031261e-4 s-1 at 45°
+    -0.001031261
     """
     inputs = [lat_deg, h, u, v, omega, omega_rate_x, omega_rate_y, omega_rate_z]
     shape = np.broadcast_shapes(*(np.shape(x) for x in [*inputs, w, lon_deg] if x is not None))
