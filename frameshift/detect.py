@@ -99,11 +99,11 @@ def find_velocity(
         vset = _velocity_from_metadata(ds, target)
     for comp, name in vset.items():
         _check_not_in(ds, name, target)
-        parse_units(name, ds[name].attrs.get("units"), "speed")
+        parse_units(name, ds.variables[name].attrs.get("units"), "speed")
         del comp
-    dims = [set(ds[n].dims) for n in vset.names()]
+    dims = [set(ds.variables[n].dims) for n in vset.names()]
     if any(d != dims[0] for d in dims):
-        found = ", ".join(f"{n}{tuple(ds[n].dims)}" for n in vset.names())
+        found = ", ".join(f"{n}{tuple(ds.variables[n].dims)}" for n in vset.names())
         raise UnsupportedInputError(
             f"velocity components must share their dimensions; found {found}",
             variable=vset.eastward,
@@ -148,9 +148,9 @@ def _velocity_from_mapping(ds: xr.Dataset, velocity: Mapping[str, str]) -> Veloc
                 expected="a variable of the Dataset",
                 found="absent",
             )
-        _refuse_grid_relative(name, _std(ds[name]))
+        _refuse_grid_relative(name, _std(ds.variables[name]))
     family = "velocity"
-    std = _earth_standard_name(ds[velocity["eastward"]])
+    std = _earth_standard_name(ds.variables[velocity["eastward"]])
     for fam, table in criteria.VELOCITY_STANDARD_NAMES.items():
         if std == table["eastward"]:
             family = fam
@@ -173,7 +173,7 @@ def _velocity_from_metadata(ds: xr.Dataset, target: str) -> VelocitySet:
     # whose winds were converted and whose currents were not), the set still to
     # convert is the one meant; with none left, the frame check below explains.
     convertible = {
-        f: {k: [n for n in names if _frame_of(ds[n]) != target] for k, names in c.items()}
+        f: {k: [n for n in names if _frame_of(ds.variables[n]) != target] for k, names in c.items()}
         for f, c in complete.items()
     }
     convertible = {
@@ -241,8 +241,8 @@ def _frame_of(var: xr.DataArray) -> str | None:
 
 
 def _check_not_in(ds: xr.Dataset, name: str, target: str) -> None:
-    attrs = ds[name].attrs
-    frame = _frame_of(ds[name])
+    attrs = ds.variables[name].attrs
+    frame = _frame_of(ds.variables[name])
     if frame == target:
         raise FrameError(
             f"variable {name!r} is already relative to the {target} frame "
@@ -313,17 +313,17 @@ def find_layout(
 ) -> Layout:
     """Find the velocity set, position and time of ``ds`` (see module docstring)."""
     vset = find_velocity(ds, velocity, target=target)
-    vdims = tuple(ds[vset.eastward].dims)
+    vdims = tuple(ds.variables[vset.eastward].dims)
     lat = _degrees(ds, "latitude")
     lon = _degrees(ds, "longitude")
     for name in (lat, lon):
-        if not set(ds[name].dims) <= set(vdims):
+        if not set(ds.variables[name].dims) <= set(vdims):
             raise UnsupportedInputError(
-                f"{name!r} has dimensions {ds[name].dims} not all shared by the velocity "
+                f"{name!r} has dimensions {ds.variables[name].dims} not all shared by the velocity "
                 f"{vset.eastward!r} {vdims}",
                 variable=name,
                 expected=f"dimensions within {vdims}",
-                found=str(ds[name].dims),
+                found=str(ds.variables[name].dims),
             )
     notes: list[str] = []
     if vset.upward is None:
@@ -401,7 +401,7 @@ def _is_pressure(var: xr.Variable) -> bool:
 def height_in_metres(ds: xr.Dataset, layout: Layout, height: object = None) -> xr.DataArray:
     """The height above the ellipsoid (m, positive up) as a DataArray (may be 0-d)."""
     if layout.vertical is not None:
-        var = ds[layout.vertical]
+        var = ds.variables[layout.vertical]
         unit = parse_units(layout.vertical, var.attrs.get("units"), "length")
         factor = layout.vertical_sign * scale_to(unit, "m")
         return _plain(var) * factor if factor != 1.0 else _plain(var)

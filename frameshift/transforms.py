@@ -12,7 +12,7 @@ from frameshift import criteria
 from frameshift._apply import apply_kernel
 from frameshift._kernels import velocity as vk
 from frameshift.celestial import CELESTIAL_AXES, body_to_inertial_matrix
-from frameshift.cf import float_encoding, stamp
+from frameshift.cf import append_history, float_encoding, set_conventions, stamp
 from frameshift.detect import (
     INERTIAL,
     ROTATING,
@@ -159,24 +159,21 @@ def _convert(ds, frame, target, basis, velocity, height, celestial, dut1) -> xr.
 # --- local east/north/up axes -------------------------------------------------------
 def _local(ds: xr.Dataset, frame: Planet, target: str, layout: Layout, height) -> xr.Dataset:
     sign = 1.0 if target == INERTIAL else -1.0
-    lat = _plain(ds[layout.latitude])
+    lat = _plain(ds.variables[layout.latitude])
     h = height_in_metres(ds, layout, height)
+    names = dict(layout.velocity.items())
+    units = _speed_units(ds, names)
+    east = ds.variables[names["eastward"]]
+    # Ω, the direction and the eastward unit fold into one factor of the small
+    # position-only kernel; the full-size work is the one addition below
+    factor = sign / scale_to(units[names["eastward"]][0], "m s-1")
+    geometry = {"a": frame.equatorial_radius, "f": frame.flattening}
     if frame.steady:
-        omega: float | xr.DataArray = float(frame.rotation_rate)
+        omega = float(frame.rotation_rate) * factor
+        shift = apply_kernel(vk.eastward_frame_speed, lat, h, kwargs={"omega": omega, **geometry})
     else:  # pragma: no cover - no unsteady frame ships yet
-        omega = _rate_over_time(ds, frame, layout)
-    speed = (
-        apply_kernel(
-            vk.eastward_frame_speed,
-            lat,
-            h,
-            kwargs={"omega": 1.0, "a": frame.equatorial_radius, "f": frame.flattening},
-        )
-        * omega
-    )
-    east = ds[layout.velocity.eastward]
-    unit = parse_units(layout.velocity.eastward, east.attrs.get("units"), "speed")
-    shift = speed * (sign / scale_to(unit, "m s-1"))
+        speed = apply_kernel(vk.eastward_frame_speed, lat, h, kwargs={"omega": 1.0, **geometry})
+        shift = speed * _rate_over_time(ds, frame, layout) * factor
     extra = set(shift.dims) - set(east.dims)
     if extra:
         raise MissingInputError(
@@ -186,22 +183,62 @@ def _local(ds: xr.Dataset, frame: Planet, target: str, layout: Layout, height) -
             expected=f"position on dimensions within {east.dims}",
             found=str(shift.dims),
         )
-    new_east = (_plain(east) + shift).transpose(*east.dims)
-    out = ds.copy(deep=False)
-    for comp, name in layout.velocity.items():
-        var = ds[name].variable
-        data = new_east.data if comp == "eastward" else var.data
-        unit = parse_units(name, var.attrs.get("units"), "speed")
-        attrs = _velocity_attrs(var.attrs, comp, layout, frame, target, udunits_string(unit))
+    # Variables broadcast by dimension name without index alignment (the
+    # position arrays are the Dataset's own coordinates)
+    new_east = (xr.Variable(east.dims, east.data) + shift.variable).transpose(*east.dims)
+    if set(names.values()) <= set(ds.data_vars):
+        # one shallow copy with the new eastward data; the metadata of the copied
+        # velocity variables (fresh Variable objects) is then set in place
+        data = {k: ds.variables[k].data for k in ds.data_vars}
+        data[names["eastward"]] = new_east.data
+        out = ds.copy(deep=False, data=data)
+    else:  # a velocity held as a coordinate: assign variable by variable
+        out = ds.copy(deep=False)
+        for comp, name in names.items():
+            var = ds.variables[name]
+            new_data = new_east.data if comp == "eastward" else var.data
+            out[name] = xr.Variable(var.dims, new_data, attrs=var.attrs, encoding=var.encoding)
+    for comp, name in names.items():
+        var = ds.variables[name]
+        attrs = _velocity_attrs(var.attrs, comp, layout, frame, target, units[name][1])
         encoding = float_encoding(var.encoding) if comp == "eastward" else dict(var.encoding)
         if comp == "eastward":
             for key in _CHANGED_RANGE_ATTRS:
                 attrs.pop(key, None)
-        out[name] = xr.Variable(var.dims, data, attrs=attrs, encoding=encoding)
+        target_var = out.variables[name]
+        target_var.attrs = attrs
+        target_var.encoding = encoding
     op = "to_inertial" if target == INERTIAL else "to_rotating"
-    return stamp(
+    return _stamped(
         out, f"{op}(basis='local', frame={frame.name!r}) on {list(layout.velocity.names())}"
     )
+
+
+def _speed_units(ds: xr.Dataset, names: Mapping[str, str]) -> dict:
+    """``{variable: (pint unit, UDUNITS string)}``, each distinct ``units`` text parsed once."""
+    parsed: dict[str, tuple] = {}
+    out = {}
+    for name in names.values():
+        text = ds.variables[name].attrs.get("units")
+        key = text if isinstance(text, str) else None
+        if key is None or key not in parsed:
+            unit = parse_units(name, text, "speed")
+            found = (unit, udunits_string(unit))
+            if key is not None:
+                parsed[key] = found
+        else:
+            found = parsed[key]
+        out[name] = found
+    return out
+
+
+def _stamped(out: xr.Dataset, operation: str) -> xr.Dataset:
+    """:func:`frameshift.cf.stamp` for a Dataset made here (no further copy)."""
+    attrs = dict(out.attrs)
+    append_history(attrs, operation)
+    set_conventions(attrs)
+    out.attrs = attrs
+    return out
 
 
 def _velocity_attrs(
