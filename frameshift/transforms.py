@@ -294,9 +294,12 @@ def _time_matrices(ds, frame, time_name, celestial, dut1):
     jd1, jd2 = julian_date_parts(t.values, time_name)
     dut1_values = _dut1_values(dut1, t)
     matrix = body_to_inertial_matrix(frame, jd1, jd2, dut1_values, celestial)
-    omega = frame.rotation_vector(jd1, jd2 + dut1_values / 86400.0)
     m = xr.DataArray(matrix, dims=(*t.dims, "row", "col"))
-    o = xr.DataArray(omega, dims=(*t.dims, "component"))
+    if frame.steady:  # one rotation vector for all times
+        o = xr.DataArray(frame.rotation_vector(np.asarray(0.0)), dims=("component",))
+    else:  # pragma: no cover - no unsteady frame ships yet
+        omega = frame.rotation_vector(jd1, jd2 + dut1_values / 86400.0)
+        o = xr.DataArray(omega, dims=(*t.dims, "component"))
     return m, o
 
 
@@ -400,11 +403,19 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
         **common,
         _STASH: json.dumps(record, sort_keys=True),
     }
-    out = ds.drop_vars(list(vset.names()))
-    out = out.assign(
-        position=pos.assign_attrs(pos_attrs), velocity=vel.assign_attrs(vel_attrs)
-    ).assign_coords(component=("component", ["x", "y", "z"], {"long_name": "Cartesian axis"}))
-    return stamp(
+    component = xr.Variable("component", ["x", "y", "z"], {"long_name": "Cartesian axis"})
+    new = {"position": pos.assign_attrs(pos_attrs), "velocity": vel.assign_attrs(vel_attrs)}
+    names = set(vset.names())
+    clash = "component" in ds.variables or bool({"position", "velocity"} & set(ds.coords))
+    if names <= set(ds.data_vars) and not clash:
+        # one Dataset of the kept variables, the coordinates (indexes kept) and the new ones
+        keep = {k: ds.variables[k] for k in ds.data_vars if k not in names}
+        keep.update({k: v.variable for k, v in new.items()})
+        coords = ds.coords.assign(component=component)
+        out = xr.Dataset(keep, coords=coords, attrs=dict(ds.attrs))
+    else:
+        out = ds.drop_vars(list(names)).assign(new).assign_coords(component=component)
+    return _stamped(
         out,
         f"to_inertial(basis='cartesian', celestial={celestial!r}, frame={frame.name!r}) "
         f"on {list(vset.names())}",
