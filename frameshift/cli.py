@@ -58,8 +58,14 @@ examples:
 _EPILOG_DEMO = """\
 examples:
   frameshift demo
-      convert the bundled invented demo files into ./frameshift_demo_output
-  frameshift demo --out demo_run --overwrite"""
+      convert the bundled invented demo files (local and Cartesian axes), write
+      their apparent-acceleration terms and four figures into
+      ./frameshift_demo_output, and print a summary table
+  frameshift demo --out demo_run --overwrite
+      redo every output (by default up-to-date NetCDF outputs are kept)
+
+The figures need the plot extra (pip install 'frameshift[plot]'); without it the
+NetCDF outputs are still written. Exit status 0 unless a step failed."""
 
 
 def parse_velocity(text: str) -> dict[str, str]:
@@ -203,8 +209,9 @@ def build_parser() -> argparse.ArgumentParser:
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
 
     demo = sub.add_parser("demo", help="run frameshift on the bundled invented demo data",
-                          description="Convert the bundled demo files (invented data) and "
-                          "print a table of what was computed.",
+                          description="Run frameshift on the bundled demo files (invented "
+                          "data): convert them to the inertial frame, write their "
+                          "apparent-acceleration terms and figures, and print a summary.",
                           epilog=_EPILOG_DEMO, formatter_class=fmt)
     demo.add_argument("--out", default="frameshift_demo_output", metavar="DIR",
                       help="output directory (default frameshift_demo_output)")
@@ -273,8 +280,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _inspect(args.inputs, velocity=args.velocity, as_json=args.json)
         from frameshift import demo
 
-        demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet)
-        return 0
+        return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
         print(f"frameshift {args.command}: error: {' '.join(str(exc).split())}", file=sys.stderr)
         return 2

@@ -9,7 +9,9 @@ from __future__ import annotations
 import contextlib
 import functools
 import importlib.resources
+import os
 import xml.etree.ElementTree as ET
+from pathlib import Path
 
 import dask
 import numpy as np
@@ -215,3 +217,32 @@ BUILDERS = {"grid": grid_dataset, "station": station_dataset, "trajectory": traj
 
 #: parametrise over the three data shapes users hold: use ``kind`` as argument
 all_kinds = pytest.mark.parametrize("kind", list(BUILDERS))
+
+
+PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
+
+
+def assert_real_png(path: str | os.PathLike, *, min_bytes: int = 20_000) -> tuple[int, int]:
+    """Check ``path`` is a PNG figure: readable, of sensible size, and not blank.
+
+    Sensible: 500-2400 pixels wide and 400-2000 high (readable on a screen, not
+    a poster). Not blank: more than 100 distinct colours, and between 5 % and
+    97 % of the pixels not white. Returns ``(height, width)`` in pixels. Needs
+    matplotlib (the ``plot`` extra) to decode the image.
+    """
+    from matplotlib.image import imread
+
+    path = Path(path)
+    assert path.read_bytes()[:8] == PNG_SIGNATURE, f"{path} is not a PNG file"
+    assert path.stat().st_size > min_bytes, f"{path}: only {path.stat().st_size} bytes"
+    image = imread(path)
+    height, width = image.shape[:2]
+    assert image.ndim == 3 and image.shape[2] in (3, 4), image.shape
+    assert 500 <= width <= 2400 and 400 <= height <= 2000, (path, image.shape)
+    rgb = image[..., :3].reshape(-1, 3)
+    packed = np.round(rgb * 255).astype(np.uint32) @ np.array([1 << 16, 1 << 8, 1], np.uint32)
+    colours = np.unique(packed)  # one integer per RGB colour: far faster than unique rows
+    assert len(colours) > 100, f"{path} is (nearly) a single colour"
+    not_white = np.any(rgb < 0.95, axis=1).mean()
+    assert 0.05 < not_white < 0.97, f"{path}: {not_white:.0%} of the pixels are not white"
+    return int(height), int(width)

@@ -234,22 +234,6 @@ def test_inspect_reports_detection_and_refusals(capsys):
     assert report["time"]["calendar"] == "noleap"
 
 
-def test_demo_runs_and_reruns(tmp_path, capsys):
-    out = tmp_path / "demo"
-    assert _run("demo", "--out", out) == 0
-    table = capsys.readouterr().out.splitlines()
-    assert table[0].split() == ["file", "step", "status", "result"]
-    assert len(table) == 1 + 5 * 3
-    refused = [row for row in table if "refused" in row]
-    assert len(refused) == 1 and "packed_knots.nc" in refused[0] and "noleap" in refused[0]
-    assert (out / "inertial_cartesian" / "shelf_mooring.nc").exists()
-    assert (out / "terms" / "global_winds.nc").exists()
-    from frameshift import demo
-
-    rows = demo.run(out, quiet=True)
-    assert {r.status for r in rows} == {"skipped", "refused"}
-
-
 def test_inspect_recognises_cartesian_output(runs, capsys):
     assert _run("inspect", runs / "cart" / "shelf_mooring.nc") == 0
     text = capsys.readouterr().out
