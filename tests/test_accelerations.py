@@ -48,8 +48,8 @@ VELOCITY_NAMES = {
 }
 
 
-def _points(lat, lon=0.0, h=0.0, u=0.0, v=0.0, w=None, units="m s-1", dim="point"):
-    """Velocities at points (one dimension), with CF metadata."""
+def _points(lat, lon=0.0, h=0.0, u=0.0, v=0.0, w=None, units="m s-1", dim="point", layout="eager"):
+    """Velocities at points (one dimension), with CF metadata, eager or chunked."""
     lat = np.atleast_1d(np.asarray(lat, dtype=float))
     shape = lat.shape
 
@@ -99,10 +99,11 @@ def _ecef(lat, lon, h):
 
 
 # --- published and computed constants ------------------------------------------------
-def test_coriolis_parameter_at_45_degrees():
+@eager_and_chunked
+def test_coriolis_parameter_at_45_degrees(layout):
     # f = 2Ω sin 45° = 1.031261e-4 s-1 with Ω of WGS 84 / IERS 2010 (computed;
     # shared/REFERENCE_VALUES.md); CF standard name coriolis_parameter, units s-1
-    ds = _points([45.0, -45.0, 0.0])
+    ds = _points([45.0, -45.0, 0.0], layout=layout)
     out = frameshift.coriolis_parameters(ds)
     np.testing.assert_allclose(
         out["coriolis_parameter"].values[:2], [1.031261e-4, -1.031261e-4], rtol=5e-7
@@ -125,17 +126,23 @@ def test_coriolis_parameter_at_45_degrees():
     xr.testing.assert_allclose(acc["coriolis_parameter"], out["coriolis_parameter"])
 
 
-def test_inertial_period_from_f():
+@eager_and_chunked
+def test_inertial_period_from_f(layout):
     # inertial period 2π/f = 16.9242 h at 45° and 23.9345 h at 30° (computed from
     # WGS 84 Ω; relation as in the AMS Glossary, "inertial period")
-    f = frameshift.coriolis_parameters(_points([45.0, 30.0]))["coriolis_parameter"].values
+    f = frameshift.coriolis_parameters(_points([45.0, 30.0], layout=layout))[
+        "coriolis_parameter"
+    ].values
     np.testing.assert_allclose(2 * np.pi / f / 3600.0, [16.9242, 23.9345], atol=1e-4)
 
 
-def test_centrifugal_at_the_equator_and_45():
+@eager_and_chunked
+def test_centrifugal_at_the_equator_and_45(layout):
     # Ω² a = 0.0339157 m s-2 at the equator, straight up (WGS 84 constants, computed);
     # at 45° N, 0 m: Ω² p with p = 4517590.879 m (REFERENCE_VALUES, computed)
-    acc = frameshift.apparent_accelerations(_points([0.0, 45.0]), terms="centrifugal")
+    acc = frameshift.apparent_accelerations(
+        _points([0.0, 45.0], layout=layout), terms="centrifugal"
+    )
     np.testing.assert_allclose(acc["centrifugal_upward"].values[0], 0.0339157, atol=5e-8)
     np.testing.assert_allclose(acc["centrifugal_northward"].values[0], 0.0, atol=1e-18)
     k = OMEGA**2 * 4517590.879
@@ -158,12 +165,15 @@ def _random_points(n=50, seed=7):
     )
 
 
-def test_coriolis_and_centrifugal_match_vector_algebra():
+@eager_and_chunked
+def test_coriolis_and_centrifugal_match_vector_algebra(layout):
     # -2Ω×V and -Ω×(Ω×r) formed in Earth-centred axes with numpy's cross product,
     # positions from pyproj (WGS 84), then turned onto local axes with the standard
     # ENU rotation: a path that shares no code with frameshift's kernels.
     p = _random_points()
-    acc = frameshift.apparent_accelerations(_points(**p), terms=("coriolis", "centrifugal"))
+    acc = frameshift.apparent_accelerations(
+        _points(**p, layout=layout), terms=("coriolis", "centrifugal")
+    )
     rot = _enu_matrix(p["lat"], p["lon"])
     v_ecef = np.einsum("nij,ni->nj", rot, np.stack([p["u"], p["v"], p["w"]], -1))
     omega = np.array([0.0, 0.0, OMEGA])
@@ -244,12 +254,13 @@ def test_fused_kernel_matches_term_functions():
 
 
 @pytest.mark.parametrize("traditional", [False, True])
-def test_coriolis_and_curvature_do_no_work(traditional):
+@eager_and_chunked
+def test_coriolis_and_curvature_do_no_work(traditional, layout):
     # V · (-2Ω×V) = 0, and V · (-ω_b×V) = 0: both are cross products with V
     # (vector identity). The traditional set keeps this property: it is the
     # energy-consistent set (Phillips 1966; White et al. 2005 — from memory).
     p = _random_points(seed=5)
-    acc = frameshift.apparent_accelerations(_points(**p), traditional=traditional)
+    acc = frameshift.apparent_accelerations(_points(**p, layout=layout), traditional=traditional)
     vel = {"eastward": p["u"], "northward": p["v"], "upward": p["w"]}
     for term in ("coriolis", "curvature"):
         power = sum(acc[f"{term}_{c}"].values * vel[c] for c in COMPONENTS)
@@ -257,10 +268,11 @@ def test_coriolis_and_curvature_do_no_work(traditional):
         assert np.all(np.abs(power) <= 1e-13 * scale + 1e-300)
 
 
-def test_traditional_drops_exactly_the_stated_terms():
+@eager_and_chunked
+def test_traditional_drops_exactly_the_stated_terms(layout):
     p = _random_points(seed=9)
-    full = frameshift.apparent_accelerations(_points(**p))
-    trad = frameshift.apparent_accelerations(_points(**p), traditional=True)
+    full = frameshift.apparent_accelerations(_points(**p, layout=layout))
+    trad = frameshift.apparent_accelerations(_points(**p, layout=layout), traditional=True)
     lat = np.deg2rad(p["lat"])
     sin_lat = np.sin(lat)
     n = A_WGS84 / np.sqrt(1 - F_WGS84 * (2 - F_WGS84) * sin_lat**2)
@@ -290,7 +302,8 @@ def test_traditional_drops_exactly_the_stated_terms():
     ("frame", "rel_v2"),
     [(EARTH_SPHERE, 3e-5), (EARTH, 7e-3)],
 )
-def test_eotvos_correction_of_marine_gravimetry(frame, rel_v2):
+@eager_and_chunked
+def test_eotvos_correction_of_marine_gravimetry(frame, rel_v2, layout):
     # Eötvös correction as used in marine gravimetry: E ≈ 7.503 V cosφ sinα + 0.004154 V²
     # mGal, V in knots, α the heading (coefficients from the gravimetry literature,
     # recalled from memory; shared/REFERENCE_VALUES.md). It is the upward Coriolis plus
@@ -304,7 +317,7 @@ def test_eotvos_correction_of_marine_gravimetry(frame, rel_v2):
     )
     lat, heading, speed = lat.ravel(), heading.ravel(), speed.ravel()
     alpha = np.deg2rad(heading)
-    ds = _points(lat, u=speed * np.sin(alpha), v=speed * np.cos(alpha), units="knot")
+    ds = _points(lat, u=speed * np.sin(alpha), v=speed * np.cos(alpha), units="knot", layout=layout)
     acc = frameshift.apparent_accelerations(ds, frame, terms=("coriolis", "curvature"))
     ours = (acc["coriolis_upward"] + acc["curvature_upward"]).values / MGAL
     first = 7.503 * speed * np.cos(np.deg2rad(lat)) * np.sin(alpha)
@@ -351,7 +364,7 @@ FLAT_BODY = Planet("flattened test body", 1.6378499e-4, 60268e3, inverse_flatten
 SPINNING = SpinningUp("spinning test body", 7.292115e-5, 6378137.0, 298.257223563, spin_up=2e-10)
 
 
-def _inertial_line(frame, dt=1.0, n=601):
+def _inertial_line(frame, dt=1.0, layout="eager", n=601):
     """A point moving in a straight line at constant velocity on inertial CIRS axes,
     taken into ``frame`` with to_rotating(basis="cartesian")."""
     t0 = np.datetime64("2024-03-15T06:00", "ns")
@@ -369,11 +382,12 @@ def _inertial_line(frame, dt=1.0, n=601):
         },
         coords={"time": times, "component": ["x", "y", "z"]},
     )
-    return frameshift.to_rotating(inertial, frame, basis="cartesian")
+    return as_layout(frameshift.to_rotating(inertial, frame, basis="cartesian"), layout)
 
 
 @pytest.mark.parametrize("frame", [EARTH, FLAT_BODY, SPINNING], ids=lambda f: f.name)
-def test_closure_inertial_straight_line(frame):
+@eager_and_chunked
+def test_closure_inertial_straight_line(frame, layout):
     # With no force, the inertial acceleration is zero, so the rate of change of the
     # local velocity components must equal the sum of the four apparent terms.
     # Centred differences over Δt = 1 s: truncation Δt²/6 |d³u/dt³| (second order)
@@ -382,7 +396,7 @@ def test_closure_inertial_straight_line(frame):
     # to a few eps |v_I|, so the differences carry ~50 eps |v_I| / Δt. Measured on the
     # Earth: about 1e-10 and 1e-13 m s-2, against terms of order 1e-2 m s-2.
     dt = 1.0
-    rot = _inertial_line(frame, dt)
+    rot = _inertial_line(frame, dt, layout)
     speed = frame.rotation_rate * frame.equatorial_radius + 50.0  # bound on |v_I|
     rounding = 50 * np.finfo(float).eps * speed / dt
     acc = frameshift.apparent_accelerations(rot, frame, velocity=VELOCITY_NAMES)
@@ -405,10 +419,11 @@ def test_closure_inertial_straight_line(frame):
         assert np.all(acc["euler_northward"].values == 0.0)
 
 
-def test_closure_fails_without_a_term():
+@eager_and_chunked
+def test_closure_fails_without_a_term(layout):
     # the closure is sensitive: leaving out any one term breaks it by far more than
     # the differencing error
-    rot = _inertial_line(EARTH)
+    rot = _inertial_line(EARTH, layout=layout)
     x = rot["northward_velocity"].values
     d4 = (-x[4:] + 8 * x[3:-1] - 8 * x[1:-3] + x[:-4]) / 12.0
     for term in ("coriolis", "centrifugal", "curvature"):
@@ -417,7 +432,8 @@ def test_closure_fails_without_a_term():
         assert np.abs(d4 - acc["total_northward"].values[2:-2]).max() > 1e-6
 
 
-def test_earth_fixed_point_is_pure_centripetal():
+@eager_and_chunked
+def test_earth_fixed_point_is_pure_centripetal(layout):
     # An Earth-fixed point (V = 0) has no Coriolis, curvature or (steady) Euler term,
     # and d(u,v,w)/dt = 0, so its inertial acceleration is minus the total, which is
     # the centrifugal term alone. Independently: pyerfa's pvtob gives the CIRS
@@ -430,7 +446,7 @@ def test_earth_fixed_point_is_pure_centripetal():
     lat = np.array([0.0, 45.0, -33.0, 70.0])
     lon = np.array([0.0, 10.0, 151.0, -20.0])
     h = np.array([0.0, 0.0, 500.0, 3000.0])
-    acc = frameshift.apparent_accelerations(_points(lat, lon=lon, h=h, w=0.0))
+    acc = frameshift.apparent_accelerations(_points(lat, lon=lon, h=h, w=0.0, layout=layout))
     for term in ("coriolis", "curvature", "euler"):
         for c in COMPONENTS:
             assert np.all(acc[f"{term}_{c}"].values == 0.0)
@@ -504,8 +520,9 @@ def test_metadata(kind, layout):
     assert np.isfinite(float(out.sum().to_array().sum()))
 
 
-def test_cell_methods_carried_over():
-    ds = BUILDERS["grid"]()  # ua has cell_methods "time: mean", va and wa none
+@eager_and_chunked
+def test_cell_methods_carried_over(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)  # ua has cell_methods "time: mean", va and wa none
     out = frameshift.apparent_accelerations(ds)
     assert all(out[n].attrs["cell_methods"] == "time: mean" for n in out.data_vars)
     assert "averaged" in out["curvature_upward"].attrs["comment"]
@@ -514,26 +531,29 @@ def test_cell_methods_carried_over():
     assert all("cell_methods" not in mixed[n].attrs for n in mixed.data_vars)
 
 
-def test_units_knot_and_cm_per_second():
+@eager_and_chunked
+def test_units_knot_and_cm_per_second(layout):
     # the same physical velocity in m s-1, knot and cm s-1 gives the same accelerations
     p = _random_points(seed=2)
-    ref = frameshift.apparent_accelerations(_points(**p))
+    ref = frameshift.apparent_accelerations(_points(**p, layout=layout))
     for units, factor in (("knot", KNOT), ("cm s-1", 0.01)):
         q = dict(p, u=p["u"] / factor, v=p["v"] / factor, w=p["w"] / factor)
-        out = frameshift.apparent_accelerations(_points(**q, units=units))
+        out = frameshift.apparent_accelerations(_points(**q, units=units, layout=layout))
         xr.testing.assert_allclose(out, ref, rtol=1e-12, atol=1e-18)
 
 
-def test_station_data_in_cm_per_second_by_hand():
-    ds = BUILDERS["station"]()  # cm s-1, depth positive down
+@eager_and_chunked
+def test_station_data_in_cm_per_second_by_hand(layout):
+    ds = as_layout(BUILDERS["station"](), layout)  # cm s-1, depth positive down
     out = frameshift.apparent_accelerations(ds, terms="coriolis")
     f = 2 * OMEGA * np.sin(np.deg2rad(ds["lat"]))
     np.testing.assert_allclose(out["coriolis_northward"], -f * ds["u"] * 0.01, rtol=1e-13)
     assert "depth" in out["coriolis_northward"].attrs["assumptions"]
 
 
-def test_terms_subset_and_totals():
-    ds = BUILDERS["trajectory"]()
+@eager_and_chunked
+def test_terms_subset_and_totals(layout):
+    ds = as_layout(BUILDERS["trajectory"](), layout)
     out = frameshift.apparent_accelerations(ds, terms=["curvature", "coriolis"])
     assert list(out.data_vars) == list(ak.output_names(("coriolis", "curvature")))
     for c in COMPONENTS:
@@ -544,8 +564,9 @@ def test_terms_subset_and_totals():
     assert not np.shares_memory(one["total_eastward"].values, one["coriolis_eastward"].values)
 
 
-def test_input_not_modified_and_accessor():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_input_not_modified_and_accessor(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     before = ds.copy(deep=True)
     out = ds.frameshift.apparent_accelerations(terms="coriolis")
     xr.testing.assert_identical(ds, before)
@@ -555,10 +576,11 @@ def test_input_not_modified_and_accessor():
     assert "coriolis_parameter" in ds.frameshift.coriolis_parameters()
 
 
-def test_euler_of_a_spinning_up_frame_on_a_grid():
+@eager_and_chunked
+def test_euler_of_a_spinning_up_frame_on_a_grid(layout):
     # for dΩ/dt = α on the axis, -(dΩ/dt)×r = -α p eastward (p = (N + h) cos φ);
     # the frame is unsteady, so Ω is taken at each time of the Dataset
-    ds = BUILDERS["grid"]()
+    ds = as_layout(BUILDERS["grid"](), layout)
     out = frameshift.apparent_accelerations(ds, SPINNING)
     lat = np.deg2rad(ds["lat"])
     n = A_WGS84 / np.sqrt(1 - F_WGS84 * (2 - F_WGS84) * np.sin(lat) ** 2)
@@ -573,8 +595,9 @@ def test_euler_of_a_spinning_up_frame_on_a_grid():
 
 
 # --- errors ------------------------------------------------------------------------------
-def test_errors_name_what_is_missing():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_errors_name_what_is_missing(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     with pytest.raises(MissingInputError, match="velocity") as info:
         frameshift.apparent_accelerations(ds[["ta"]])
     assert info.value.variable == "velocity"
@@ -593,7 +616,8 @@ def test_errors_name_what_is_missing():
         frameshift.apparent_accelerations(ds.isel(time=0, drop=True), SPINNING)
 
 
-def test_rotation_off_the_figure_axis_is_refused():
+@eager_and_chunked
+def test_rotation_off_the_figure_axis_is_refused(layout):
     @dataclass(frozen=True)
     class Wobbling(Planet):
         def rotation_vector(self, jd1, jd2=None):
@@ -603,4 +627,4 @@ def test_rotation_off_the_figure_axis_is_refused():
 
     body = Wobbling("wobbling test body", OMEGA, A_WGS84, 298.257223563)
     with pytest.raises(UnsupportedInputError, match="z axis"):
-        frameshift.apparent_accelerations(BUILDERS["grid"](), body)
+        frameshift.apparent_accelerations(as_layout(BUILDERS["grid"](), layout), body)

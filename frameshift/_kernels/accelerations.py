@@ -212,23 +212,33 @@ def accelerations(
     shape = np.broadcast_shapes(*(np.shape(x) for x in [*inputs, w, lon_deg] if x is not None))
     su, sv, sw = (float(s) for s in scale)
     full_w = w is not None and not traditional
+    terms = tuple(terms)
+    for term in terms:
+        if term not in TERMS:
+            raise ValueError(f"unknown term {term!r}; expected one of {TERMS}")
+    rx, ry, rz = (np.asarray(r, dtype=np.float64) for r in inputs[5:8])
+    off_axis = bool(np.any(rx) or np.any(ry))
+    if "euler" in terms and off_axis and lon_deg is None:
+        raise ValueError("accelerations: lon_deg needed when dΩ/dt is off the z axis")
 
-    # per-latitude (and height, and time for an unsteady frame) factors: small arrays
-    lat = np.deg2rad(lat_deg)
+    # Factors of latitude and height (and of time for an unsteady frame): small
+    # arrays for gridded data, full-size for trajectories, so each is formed once.
+    lat = np.multiply(lat_deg, np.pi / 180.0)  # np.deg2rad runs a slower loop
     sin_lat, cos_lat = np.sin(lat), np.cos(lat)
-    need_radii = {"centrifugal", "euler", "curvature"} & set(terms)
-    if need_radii:
+    two_omega = np.multiply(omega, 2.0)
+    if {"centrifugal", "euler", "curvature"} & set(terms):
         e2 = geodesy._e2(f)
-        n = geodesy.prime_vertical_radius(sin_lat, a, f)
+        d = 1.0 - e2 * (sin_lat * sin_lat)  # 1 - e² sin²φ
+        n = a / np.sqrt(d)  # N, as geodesy.prime_vertical_radius
         nh = n + h
+        p = nh * cos_lat  # distance from the axis, as geodesy.axis_distance
 
-    # full-size products shared between terms, formed once
-    cache: dict[str, np.ndarray] = {}
+    scratch: list[np.ndarray] = []
 
-    def product(key, x, y):
-        if key not in cache:
-            cache[key] = np.multiply(x, y)
-        return cache[key]
+    def temp() -> np.ndarray:  # one full-size work array, reused
+        if not scratch:
+            scratch.append(np.empty(shape))
+        return scratch[0]
 
     parts: dict[str, list] = {c: [] for c in COMPONENTS}  # contributions to the totals
     results: list = []
@@ -241,28 +251,24 @@ def accelerations(
 
     for term in terms:
         if term == "coriolis":
-            two_omega = 2.0 * np.asarray(omega, dtype=np.float64)
-            fs = two_omega * sin_lat
-            east = np.multiply(v, fs * sv)
+            fs = two_omega * sin_lat  # the Coriolis parameter f
+            east = np.multiply(v, _fold(fs, sv))
+            if full_w or not traditional:
+                fr = two_omega * cos_lat  # the reciprocal parameter
             if full_w:
-                fr = two_omega * cos_lat
-                east = _accumulate(east, np.multiply(w, fr * -sw))
-            north = np.multiply(u, fs * -su)
-            up = None if traditional else np.multiply(u, two_omega * cos_lat * su)
+                east = _subtract(east, w, _fold(fr, sw), temp)
+            north = _neg(np.multiply(u, _fold(fs, su)))
+            up = None if traditional else np.multiply(u, _fold(fr, su))
             emit((east, north, up))
         elif term == "centrifugal":
-            k = np.square(omega) * (nh * cos_lat)
-            emit((None, -k * sin_lat, k * cos_lat))
+            k = np.square(omega) * p
+            emit((None, _neg(k * sin_lat), k * cos_lat))
         elif term == "euler":
-            rx, ry, rz = (np.asarray(r, dtype=np.float64) for r in inputs[5:8])
-            rn = -n * e2 * sin_lat * cos_lat
-            ru = n * (1.0 - e2 * sin_lat * sin_lat) + h
-            if lon_deg is None:
-                if np.any(rx) or np.any(ry):
-                    raise ValueError("accelerations: lon_deg needed when dΩ/dt is off the z axis")
-                an, au = cos_lat * rz, sin_lat * rz
-                emit((au * rn - an * ru + 0.0, None, None))
+            if not off_axis:  # dΩ/dt on the axis: -(dΩ/dt × r) = -Ω̇ p east, nothing else
+                emit((p * (0.0 - rz), None, None))  # 0.0 - rz: no -0.0 for a zero rate
             else:
+                rn = -n * e2 * sin_lat * cos_lat  # r on local axes: (0, rn, ru)
+                ru = n * d + h
                 rate = np.stack(np.broadcast_arrays(rx, ry, rz), axis=-1)
                 enu = geodesy.cartesian_to_enu(lat, np.deg2rad(lon_deg), rate)
                 ae, an, au = enu[..., 0], enu[..., 1], enu[..., 2]
@@ -270,27 +276,54 @@ def accelerations(
         elif term == "curvature":
             inv_n = 1.0 / nh
             tan_n = (sin_lat / cos_lat) * inv_n
-            uv = product("uv", u, v)
-            uu = product("uu", u, u)
-            east = np.multiply(uv, tan_n * (su * sv))
-            north = np.multiply(uu, tan_n * -(su * su))
+            uv = np.multiply(u, v)
+            uu = np.multiply(u, u)
+            east = _times(uv, _fold(tan_n, su * sv))
+            north = _neg(np.multiply(uu, _fold(tan_n, su * su)))
             up = None
             if not traditional:
-                inv_m = 1.0 / ((1.0 - e2) * n**3 / (a * a) + h)  # M = (1 - e²) N³ / a²
-                vv = product("vv", v, v)
-                up = np.multiply(uu, inv_n * (su * su))
-                up = _accumulate(up, np.multiply(vv, inv_m * (sv * sv)))
+                inv_m = d / (n * (1.0 - e2) + h * d)  # 1/(M + h), M = N (1 - e²)/d
+                up = _times(uu, _fold(inv_n, su * su))
+                vv = np.multiply(v, v, out=temp())
+                up = _accumulate(up, np.multiply(vv, _fold(inv_m, sv * sv), out=vv))
                 if full_w:
-                    east = _accumulate(east, np.multiply(product("uw", u, w), inv_n * -(su * sw)))
-                    north = _accumulate(north, np.multiply(product("vw", v, w), inv_m * -(sv * sw)))
+                    uw = np.multiply(u, w, out=temp())
+                    east = _subtract(east, uw, _fold(inv_n, su * sw), temp)
+                    vw = np.multiply(v, w, out=temp())
+                    north = _subtract(north, vw, _fold(inv_m, sv * sw), temp)
             emit((east, north, up))
-        else:
-            raise ValueError(f"unknown term {term!r}; expected one of {TERMS}")
-    cache.clear()
+    scratch.clear()
 
     totals = [_sum(parts[c], shape) for c in COMPONENTS]
     full = [_fresh(r, shape) for r in results]
     return (*full, *totals)
+
+
+def _times(x: np.ndarray, k) -> np.ndarray:
+    """x k, in place in the fresh array ``x`` when it already has the broadcast shape."""
+    if np.shape(x) == np.broadcast_shapes(np.shape(x), np.shape(k)) and np.ndim(x):
+        return np.multiply(x, k, out=x)
+    return x * k
+
+
+def _fold(k, s: float):
+    """k times a unit scale factor, skipping the pass when the factor is 1."""
+    return k if s == 1.0 else k * s
+
+
+def _neg(x: np.ndarray) -> np.ndarray:
+    """-x, in place (x is a fresh array)."""
+    return np.negative(x, out=x) if isinstance(x, np.ndarray) and x.ndim else -x
+
+
+def _subtract(x, y, k, temp) -> np.ndarray:
+    """x - y k, forming y k in the work array when it has the full shape (y may be it)."""
+    work = temp()
+    if np.shape(y) == work.shape and np.shape(x) == work.shape:
+        np.multiply(y, k, out=work)
+        x -= work
+        return x
+    return x - y * k
 
 
 def _accumulate(x: np.ndarray, y: np.ndarray) -> np.ndarray:
