@@ -411,7 +411,11 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
         # one Dataset of the kept variables, the coordinates (indexes kept) and the new ones
         keep = {k: ds.variables[k] for k in ds.data_vars if k not in names}
         keep.update({k: v.variable for k, v in new.items()})
-        coords = ds.coords.assign(component=component)
+        new_coord = xr.Coordinates({"component": component})
+        coords = xr.Coordinates(
+            {**ds.coords.variables, **new_coord.variables},
+            indexes={**ds.xindexes, **new_coord.xindexes},
+        )
         out = xr.Dataset(keep, coords=coords, attrs=dict(ds.attrs))
     else:
         out = ds.drop_vars(list(names)).assign(new).assign_coords(component=component)
