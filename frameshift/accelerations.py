@@ -211,8 +211,10 @@ def apparent_accelerations(
         )
     omega, rates, lon_needed = _rotation_values(ds, frame, layout.time)
 
-    names = ["lat_deg", "h", "u", "v", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
-    inputs = [_plain(ds[layout.latitude]), h, _plain(east), _plain(ds[vset.northward]), omega]
+    # the velocity first: apply_ufunc orders the work dimensions as its inputs come,
+    # so the kernel sees the velocity (and writes its outputs) in memory order
+    names = ["u", "v", "lat_deg", "h", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
+    inputs = [_plain(east), _plain(ds[vset.northward]), _plain(ds[layout.latitude]), h, omega]
     inputs += list(rates)
     scales = [_scale(ds, vset.eastward), _scale(ds, vset.northward), 1.0]
     if vset.upward is not None:
@@ -235,13 +237,13 @@ def apparent_accelerations(
             "terms": chosen,
             "traditional": traditional,
         },
-        dims_order=dims,
     )
     common = _common_attrs(ds, layout, frame)
     variables = {}
     for name, data in zip(outputs, results, strict=True):
         term, comp = name.split("_")
         attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
+        data = data.variable  # in the velocity's dimension order, with one transpose
         variables[name] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
     out = xr.Dataset(variables, coords=east.coords, attrs=dict(ds.attrs))
     if include_parameters:

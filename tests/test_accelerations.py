@@ -153,8 +153,8 @@ def test_centrifugal_at_the_equator_and_45(layout):
 
 
 # --- independent vector algebra --------------------------------------------------------
-def _random_points(n=50, seed=7):
-    rng = np.random.default_rng(seed)
+def _random_points(n=50, rng_key=7):
+    rng = np.random.default_rng(rng_key)
     return dict(
         lat=rng.uniform(-85, 85, n),
         lon=rng.uniform(-180, 180, n),
@@ -189,7 +189,7 @@ def test_coriolis_and_centrifugal_match_vector_algebra(layout):
 def test_euler_term_off_axis_matches_vector_algebra():
     # the kernel's general formula -(dΩ/dt)×r, with dΩ/dt off the axis, against the
     # cross product in Earth-centred axes (pyproj positions) turned onto local axes
-    p = _random_points(seed=11)
+    p = _random_points(rng_key=11)
     rate = np.array([3e-12, -2e-12, 5e-12])  # rad s-2, arbitrary
     out = ak.accelerations(
         p["lat"],
@@ -216,7 +216,7 @@ def test_euler_term_off_axis_matches_vector_algebra():
 def test_fused_kernel_matches_term_functions():
     # the one-pass kernel against the readable one-term functions of the same module,
     # with velocity scale factors (knots) folded into the products
-    p = _random_points(seed=3)
+    p = _random_points(rng_key=3)
     lat = np.deg2rad(p["lat"])
     for traditional in (False, True):
         out = ak.accelerations(
@@ -259,7 +259,7 @@ def test_coriolis_and_curvature_do_no_work(traditional, layout):
     # V · (-2Ω×V) = 0, and V · (-ω_b×V) = 0: both are cross products with V
     # (vector identity). The traditional set keeps this property: it is the
     # energy-consistent set (Phillips 1966; White et al. 2005 — from memory).
-    p = _random_points(seed=5)
+    p = _random_points(rng_key=5)
     acc = frameshift.apparent_accelerations(_points(**p, layout=layout), traditional=traditional)
     vel = {"eastward": p["u"], "northward": p["v"], "upward": p["w"]}
     for term in ("coriolis", "curvature"):
@@ -270,7 +270,7 @@ def test_coriolis_and_curvature_do_no_work(traditional, layout):
 
 @eager_and_chunked
 def test_traditional_drops_exactly_the_stated_terms(layout):
-    p = _random_points(seed=9)
+    p = _random_points(rng_key=9)
     full = frameshift.apparent_accelerations(_points(**p, layout=layout))
     trad = frameshift.apparent_accelerations(_points(**p, layout=layout), traditional=True)
     lat = np.deg2rad(p["lat"])
@@ -534,7 +534,7 @@ def test_cell_methods_carried_over(layout):
 @eager_and_chunked
 def test_units_knot_and_cm_per_second(layout):
     # the same physical velocity in m s-1, knot and cm s-1 gives the same accelerations
-    p = _random_points(seed=2)
+    p = _random_points(rng_key=2)
     ref = frameshift.apparent_accelerations(_points(**p, layout=layout))
     for units, factor in (("knot", KNOT), ("cm s-1", 0.01)):
         q = dict(p, u=p["u"] / factor, v=p["v"] / factor, w=p["w"] / factor)
