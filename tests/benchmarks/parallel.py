@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import threading
+
 import dask
+import numpy as np
 
 import frameshift
 from tests.benchmarks.data import grid_shape, grid_winds
@@ -63,13 +66,37 @@ def _case(label: str, fn, ds, repeats: int) -> list[Row]:
     ]  # fmt: skip
 
 
+def _ceiling(repeats: int) -> Row:
+    """What two threads give on this machine right now: in-cache np.sin, no memory traffic."""
+    x = np.random.default_rng(0).random(1 << 14)
+
+    def work(n: int = 2000) -> None:
+        for _ in range(n):
+            np.sin(x)
+
+    def two() -> None:
+        threads = [threading.Thread(target=work) for _ in range(2)]
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join()
+
+    t1, _ = median_time(lambda: (work(), work()), repeats)
+    t2, _ = median_time(two, repeats)
+    ratio = t1 / t2
+    return Row("B6", "machine ceiling: 2 threads of in-cache np.sin", "2 x 2000 np.sin of 16k",
+               str(repeats), ratio, "speed-up over 1 thread", "(reference)", "info",
+               {"1 thread": t1, "2 threads": t2},
+               note="what the two cores give during the run (other processes count)")  # fmt: skip
+
+
 def run(quick: bool) -> list[Row]:
     points = 10**6 if quick else 10**7
     repeats = 3 if quick else 5
     nlev = grid_shape(points)[1]
     ds = grid_winds(points, upward=True).chunk({"time": 1, "z": max(1, nlev // 4)})
     accel = accelerations_function()
-    rows = []
+    rows = [_ceiling(repeats)]
     if accel is None:
         rows.append(
             not_available("B6", "terms on Dask", "apparent_accelerations not found", TARGET)
