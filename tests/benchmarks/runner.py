@@ -61,12 +61,14 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--quick", action="store_true", help="small sizes, few repeats")
     parser.add_argument("--only", default="", help="comma-separated case ids, e.g. B1,B2")
     parser.add_argument("--json", default=str(DEFAULT_JSON), help="where to write the results")
+    parser.add_argument("--markdown", default=None, help="also write the table as Markdown here")
     args = parser.parse_args(argv)
     wanted = [c.strip().upper() for c in args.only.split(",") if c.strip()] or list(CASES)
     unknown = [c for c in wanted if c not in CASES]
     if unknown:
         parser.error(f"unknown case(s) {unknown}; known: {list(CASES)}")
     rows: list[Row] = []
+    load_before = _load()
     started = time.perf_counter()
     durations = {}
     for case in wanted:
@@ -87,8 +89,11 @@ def main(argv: list[str] | None = None) -> int:
     print()
     print(table)
     print(f"\ntotal {total:.0f} s ({', '.join(f'{k} {v} s' for k, v in durations.items())})")
+    load = {"before": load_before, "after": _load()}
+    print(f"load average (1, 5, 15 min): before {load['before']}, after {load['after']}")
     result = {
         "when": dt.datetime.now(dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "load_average": load,
         "quick": args.quick,
         "cases": wanted,
         "seconds": round(total, 1),
@@ -101,4 +106,42 @@ def main(argv: list[str] | None = None) -> int:
     path.parent.mkdir(parents=True, exist_ok=True)
     path.write_text(json.dumps(result, indent=2, default=str) + "\n")
     print(f"results written to {path}", file=sys.stderr)
+    if args.markdown:
+        Path(args.markdown).write_text(markdown(result))
+        print(f"Markdown written to {args.markdown}", file=sys.stderr)
     return 0
+
+
+def _load() -> list[float] | None:
+    try:
+        return [round(x, 2) for x in os.getloadavg()]
+    except OSError:
+        return None
+
+
+def markdown(result: dict) -> str:
+    """The results of one run as a Markdown page (table, details, machine)."""
+    m = result["machine"]
+    lines = [
+        "# frameshift benchmark results",
+        "",
+        f"Run {result['when']} with `python -m tests.benchmarks"
+        f"{' --quick' if result['quick'] else ''}` ({result['seconds']:.0f} s; "
+        f"load average before/after {result['load_average']['before']} / "
+        f"{result['load_average']['after']}).",
+        "",
+        f"Machine: {m.get('cpu')}, {m.get('cores')} cores, {m.get('memory_gib')} GiB; "
+        f"Python {m.get('python')}, numpy {m.get('numpy')}, xarray {m.get('xarray')}, "
+        f"dask {m.get('dask')}, astropy {m.get('astropy')}, pyerfa {m.get('erfa')}, "
+        f"frameshift {m.get('frameshift')}.",
+        "",
+        "| case | what | ratio | target | status |",
+        "| --- | --- | --- | --- | --- |",
+    ]
+    for r in result["rows"]:
+        ratio = "-" if r["ratio"] is None else f"{r['ratio']:.3g} ({r['ratio_label']})"
+        lines.append(f"| {r['case']} | {r['what']} | {ratio} | {r['target']} | {r['status']} |")
+    lines += ["", "## Details (median wall times)", ""]
+    detail = result["table"].split("Details (median wall times):\n", 1)[-1]
+    lines += [f"- {ln.strip()}" for ln in detail.splitlines() if ln.strip()]
+    return "\n".join(lines) + "\n"
