@@ -543,6 +543,19 @@ def test_units_knot_and_cm_per_second(layout):
 
 
 @eager_and_chunked
+def test_single_precision_input_gives_float64(layout):
+    # float32 velocities and coordinates are taken as their float64 values
+    ds = BUILDERS["grid"]()
+    ds32 = ds.astype("float32")
+    ds32["time"] = ds["time"]
+    out = frameshift.apparent_accelerations(as_layout(ds32, layout)).compute()
+    ref = frameshift.apparent_accelerations(ds32.astype("float64").assign_coords(time=ds["time"]))
+    for name in out.data_vars:
+        assert out[name].dtype == np.float64
+        np.testing.assert_allclose(out[name].values, ref[name].values, rtol=1e-15, atol=0)
+
+
+@eager_and_chunked
 def test_station_data_in_cm_per_second_by_hand(layout):
     ds = as_layout(BUILDERS["station"](), layout)  # cm s-1, depth positive down
     out = frameshift.apparent_accelerations(ds, terms="coriolis")

@@ -239,6 +239,11 @@ def test_height_options_and_depth_sign(layout):
     traj = as_layout(BUILDERS["trajectory"](), layout)
     named = frameshift.normal_gravity(traj, height="alt")
     number = frameshift.normal_gravity(45.0, height=1000.0)  # a number has no chunked form
+    lat32 = _lat([12.5, 47.0], layout).astype("float32")
+    single = frameshift.normal_gravity(lat32)["normal_gravity"].values
+    assert single.dtype == np.float64
+    double = frameshift.normal_gravity(lat32.astype("float64"))["normal_gravity"].values
+    np.testing.assert_array_equal(single, double)
     assert named["normal_gravity"].dims == ("time",)
     assert number["normal_gravity"].shape == ()
     assert traj.frameshift.normal_gravity()["normal_gravity"].dims == ("time",)

@@ -208,6 +208,9 @@ def accelerations(
     >>> round(float(out[1]), 9)  # northward: -f u with f = 1.031261e-4 s-1 at 45°
     -0.001031261
     """
+    # float64 throughout (float32 or integer input would otherwise leak into outputs)
+    lat_deg, h, u, v = (np.asarray(x, dtype=np.float64) for x in (lat_deg, h, u, v))
+    w = None if w is None else np.asarray(w, dtype=np.float64)
     inputs = [lat_deg, h, u, v, omega, omega_rate_x, omega_rate_y, omega_rate_z]
     shape = np.broadcast_shapes(*(np.shape(x) for x in [*inputs, w, lon_deg] if x is not None))
     su, sv, sw = (float(s) for s in scale)
@@ -490,7 +493,7 @@ def normal_gravity_parts(lat_deg, h, *, a, f, gm, omega, method="exact"):
     normal plumb line, about 0.17" per km of height times sin 2φ, neglected).
     """
     shape = np.broadcast_shapes(np.shape(lat_deg), np.shape(h))
-    lat = np.deg2rad(lat_deg)
+    lat = np.deg2rad(np.asarray(lat_deg, dtype=np.float64))
     h = np.asarray(h, dtype=np.float64)
     if method == "exact":
         grav_n, grav_u, cen_n, cen_u = normal_gravity(lat, h, a=a, f=f, gm=gm, omega=omega)
