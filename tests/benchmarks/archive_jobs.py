@@ -1,15 +1,17 @@
 """Subprocess side of B4: make the big file, copy it with plain xarray, measure a command.
 
 ``python -m tests.benchmarks.archive_jobs make PATH NTIME`` writes the input;
-``... copy IN OUT [ENCODING_FROM]`` is the plain xarray open-and-write copy
-(with the input's encoding, or with the encoding of the variables of the file
-``ENCODING_FROM``); ``... measure -- CMD...`` runs CMD as its only child and
-prints JSON with its wall time and peak resident memory (``ru_maxrss``).
+``... copy IN OUT [ENCODING_FROM] [--fsync]`` is the plain xarray
+open-and-write copy (with the input's encoding, or with the encoding of the
+variables of the file ``ENCODING_FROM``; ``--fsync``: synced to disk);
+``... measure -- CMD...`` runs CMD as its only child and prints JSON with its
+wall time and peak resident memory (``ru_maxrss``).
 """
 
 from __future__ import annotations
 
 import json
+import os
 import resource
 import subprocess
 import sys
@@ -60,8 +62,12 @@ def make(path: str, ntime: int) -> None:
             nc["va"][i] = 3.0 * noise[:, ::-1]
 
 
-def copy(src: str, dst: str, encoding_from: str | None = None) -> None:
-    """Plain xarray: open lazily in the file's own chunks, write with an encoding."""
+def copy(src: str, dst: str, encoding_from: str | None = None, durable: bool = False) -> None:
+    """Plain xarray: open lazily in the file's own chunks, write with an encoding.
+
+    ``durable``: then ``fsync`` the file, as frameshift does before renaming
+    its output into place.
+    """
     import xarray as xr
 
     ds = xr.open_dataset(src, chunks={})
@@ -74,6 +80,9 @@ def copy(src: str, dst: str, encoding_from: str | None = None) -> None:
         if "dtype" in encoding[name] and name in ("ua", "va"):
             ds[name] = ds[name].astype(encoding[name]["dtype"])
     ds.to_netcdf(dst, encoding=encoding, engine="netcdf4")
+    if durable:
+        with open(dst, "rb") as fh:
+            os.fsync(fh.fileno())
 
 
 def measure(cmd: list[str]) -> dict:
@@ -94,7 +103,9 @@ def main(argv: list[str]) -> int:
     if what == "make":
         make(argv[1], int(argv[2]))
     elif what == "copy":
-        copy(argv[1], argv[2], argv[3] if len(argv) > 3 else None)
+        durable = "--fsync" in argv
+        rest = [a for a in argv[1:] if a != "--fsync"]
+        copy(rest[0], rest[1], rest[2] if len(rest) > 2 else None, durable)
     elif what == "measure":
         print(json.dumps(measure(argv[argv.index("--") + 1 :])))
     else:
