@@ -51,10 +51,13 @@ SITES = dict(
 TIMES = np.array(["2000-01-01T12:00", "2012-06-30T23:00", "2024-03-15T06:30"], "datetime64[ns]")
 
 
-def test_cirs_matches_erfa_pvtob():
+@eager_and_chunked
+def test_cirs_matches_erfa_pvtob(layout):
     # pyerfa pvtob(elong, phi, hm, xp, yp, sp, theta): position/velocity of an
     # Earth-fixed site in CIRS (SOFA), with polar motion set to zero and θ = ERA(UT1=UTC).
-    out = frameshift.to_inertial(_fixed_points(TIMES, **SITES), basis="cartesian")
+    out = frameshift.to_inertial(
+        as_layout(_fixed_points(TIMES, **SITES), layout), basis="cartesian"
+    )
     jd1, jd2 = frameshift.timescales.julian_date_parts(TIMES)
     for i in range(len(SITES["lat"])):
         for k in range(len(TIMES)):
@@ -74,23 +77,27 @@ def test_cirs_matches_erfa_pvtob():
             np.testing.assert_allclose(out["velocity"][i, k].values, pv["v"], atol=2e-5)
 
 
-def test_speed_of_earth_fixed_points():
+@eager_and_chunked
+def test_speed_of_earth_fixed_points(layout):
     # 465.101094 m s-1 at the equator and 329.4279 m s-1 at 45° N, 0 m
     # (astropy EarthLocation.get_gcrs_posvel; shared/REFERENCE_VALUES.md)
-    out = frameshift.to_inertial(_fixed_points(TIMES, **SITES), basis="cartesian", celestial="gcrs")
+    out = frameshift.to_inertial(
+        as_layout(_fixed_points(TIMES, **SITES), layout), basis="cartesian", celestial="gcrs"
+    )
     speed = np.linalg.norm(out["velocity"].values, axis=-1)
     np.testing.assert_allclose(speed[0], 465.101094, atol=5e-3)
     np.testing.assert_allclose(speed[1], 329.4279, atol=5e-3)
 
 
+@eager_and_chunked
 @pytest.mark.parametrize("use_dut1", [False, True])
-def test_gcrs_matches_astropy(use_dut1):
+def test_gcrs_matches_astropy(use_dut1, layout):
     from astropy import units as u
     from astropy.coordinates import EarthLocation
     from astropy.time import Time
 
     t = Time(TIMES.astype("datetime64[us]").astype(str).tolist(), scale="utc")
-    ds = _fixed_points(TIMES, **SITES)
+    ds = as_layout(_fixed_points(TIMES, **SITES), layout)
     dut1 = 0.0
     if use_dut1:  # astropy's bundled IERS tables give UT1 - UTC
         # (Time.delta_ut1_utc, seconds; a Quantity in some astropy versions)
@@ -133,28 +140,30 @@ def test_cartesian_round_trip(kind, layout):
     np.testing.assert_allclose(back["latitude"].values, lat.values, atol=1e-10)
 
 
-def test_speed_in_the_inertial_frame_includes_the_frame_velocity():
+@eager_and_chunked
+def test_speed_in_the_inertial_frame_includes_the_frame_velocity(layout):
     # For a point moving with speed s eastward at the equator, the inertial speed is s + Ω a
     # (Galilean addition of the frame velocity; WGS 84: Ω a = 465.1011 m s-1)
     ds = _fixed_points(TIMES[:1], np.array([0.0]), np.array([30.0]), np.array([0.0]))
     ds["u"][:] = 10.0
-    out = frameshift.to_inertial(ds, basis="cartesian")
+    out = frameshift.to_inertial(as_layout(ds, layout), basis="cartesian")
     assert np.linalg.norm(out["velocity"].values) == pytest.approx(475.1011, abs=5e-5)
 
 
-def test_cartesian_needs_real_time():
-    ds = BUILDERS["grid"]().drop_vars("time")
+@eager_and_chunked
+def test_cartesian_needs_real_time(layout):
+    ds = as_layout(BUILDERS["grid"](), layout).drop_vars("time")
     with pytest.raises(MissingInputError, match="needs time"):
         frameshift.to_inertial(ds, basis="cartesian")
     import cftime
 
-    noleap = BUILDERS["trajectory"]().assign_coords(
+    noleap = as_layout(BUILDERS["trajectory"](), layout).assign_coords(
         time=[cftime.DatetimeNoLeap(2001, 1, 1, h) for h in range(6)]
     )
     with pytest.raises(UnsupportedInputError, match="model calendar 'noleap'"):
         frameshift.to_inertial(noleap, basis="cartesian")
     # a real calendar held as cftime values is fine and gives the same as datetime64
-    greg = BUILDERS["trajectory"]()
+    greg = as_layout(BUILDERS["trajectory"](), layout)
     as_cf = greg.assign_coords(
         time=[cftime.DatetimeProlepticGregorian(2030, 1, 15, 0, 10 * i) for i in range(6)]
     )
@@ -163,22 +172,31 @@ def test_cartesian_needs_real_time():
     np.testing.assert_allclose(a, b, atol=1e-6)
 
 
-def test_dut1_must_be_seconds():
+@eager_and_chunked
+def test_dut1_must_be_seconds(layout):
     with pytest.raises(ValueError, match="within ±1 s"):
-        frameshift.to_inertial(BUILDERS["trajectory"](), basis="cartesian", dut1=300.0)
+        frameshift.to_inertial(
+            as_layout(BUILDERS["trajectory"](), layout), basis="cartesian", dut1=300.0
+        )
 
 
-def test_gcrs_needs_the_earth():
+@eager_and_chunked
+def test_gcrs_needs_the_earth(layout):
     body = frameshift.Planet("test body", 1e-4, 1e6)
     with pytest.raises(ValueError, match="not the Earth"):
-        frameshift.to_inertial(BUILDERS["trajectory"](), body, basis="cartesian", celestial="gcrs")
+        frameshift.to_inertial(
+            as_layout(BUILDERS["trajectory"](), layout), body, basis="cartesian", celestial="gcrs"
+        )
 
 
-def test_earth_fixed_point_moves_on_a_circle_in_cirs():
+@eager_and_chunked
+def test_earth_fixed_point_moves_on_a_circle_in_cirs(layout):
     # An Earth-fixed point turns about the z axis once per sidereal day in CIRS:
     # constant z, constant distance from the axis, speed Ω p (kinematics of rotation).
     times = np.datetime64("2030-01-01", "ns") + np.arange(0, 86400, 3600) * np.timedelta64(1, "s")
-    out = frameshift.to_inertial(_fixed_points(times, **SITES), basis="cartesian")
+    out = frameshift.to_inertial(
+        as_layout(_fixed_points(times, **SITES), layout), basis="cartesian"
+    )
     r = out["position"].values
     p = np.hypot(r[..., 0], r[..., 1])
     np.testing.assert_allclose(p, p[:, :1] * np.ones_like(p), rtol=1e-14)

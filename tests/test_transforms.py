@@ -79,7 +79,8 @@ def test_local_basis_adds_omega_times_axis_distance(kind, layout):
     assert out[east].attrs["units"] == before[east].attrs["units"]
 
 
-def test_shift_at_45n_sea_level_is_omega_times_4517590_879():
+@eager_and_chunked
+def test_shift_at_45n_sea_level_is_omega_times_4517590_879(layout):
     # WGS 84: N cos φ at 45° N, 0 m = 4517590.879 m (computed from the defining constants)
     ds = xr.Dataset(
         {
@@ -91,6 +92,7 @@ def test_shift_at_45n_sea_level_is_omega_times_4517590_879():
             "lon": ("p", [7.0], {"units": "degrees_east"}),
         },
     )
+    ds = as_layout(ds, layout)
     out = frameshift.to_inertial(ds)
     assert float(out["u"][0]) == pytest.approx(OMEGA * 4517590.879, abs=OMEGA * 1e-3)  # 1 mm
     # on the IUGG mean sphere: Ω R1 cos 45° (Moritz 1980, R1 = 6371008.7714 m)
@@ -122,8 +124,9 @@ def test_local_metadata_and_round_trip(layout):
     assert back.attrs["history"].count("\n") == 1
 
 
-def test_converting_twice_or_to_the_frame_it_is_in_is_refused():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_converting_twice_or_to_the_frame_it_is_in_is_refused(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     with pytest.raises(FrameError, match="already relative to the rotating frame"):
         frameshift.to_rotating(ds)
     out = frameshift.to_inertial(ds)
@@ -132,14 +135,15 @@ def test_converting_twice_or_to_the_frame_it_is_in_is_refused():
     assert info.value.variable == "ua"
 
 
+@eager_and_chunked
 @pytest.mark.parametrize("units", ["knot", "cm s-1", "km h-1", "m/s"])
-def test_any_speed_unit_is_accepted_and_kept(units):
-    ds = BUILDERS["grid"]()
+def test_any_speed_unit_is_accepted_and_kept(units, layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     factor = float(frameshift.units.ureg.Quantity(1.0, "m/s").to(units).magnitude)
     for name in ("ua", "va", "wa"):
         ds[name] = ds[name] * factor
         ds[name].attrs.update(BUILDERS["grid"]()[name].attrs, units=units)
-    ref = frameshift.to_inertial(BUILDERS["grid"]())
+    ref = frameshift.to_inertial(as_layout(BUILDERS["grid"](), layout))
     out = frameshift.to_inertial(ds)
     np.testing.assert_allclose(out["ua"].values / factor, ref["ua"].values, rtol=1e-13)
     assert_udunits(out["ua"].attrs["units"])
@@ -154,8 +158,9 @@ def test_any_speed_unit_is_accepted_and_kept(units):
         ("K", "dimension"),
     ],
 )
-def test_bad_velocity_units_raise_units_error(units, message):
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_bad_velocity_units_raise_units_error(units, message, layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     if units is None:
         del ds["ua"].attrs["units"]
     else:
@@ -166,8 +171,9 @@ def test_bad_velocity_units_raise_units_error(units, message):
     assert "length" in info.value.expected
 
 
-def test_grid_relative_components_are_refused():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_grid_relative_components_are_refused(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     ds["ua"].attrs["standard_name"] = "x_wind"
     ds["va"].attrs["standard_name"] = "y_wind"
     with pytest.raises(UnsupportedInputError, match="rotate the components to east/north"):
@@ -188,8 +194,9 @@ def _pressure_dataset():
     return ds
 
 
-def test_pressure_only_vertical_is_refused_and_height_or_geopotential_height_fix_it():
-    ds = _pressure_dataset()
+@eager_and_chunked
+def test_pressure_only_vertical_is_refused_and_height_or_geopotential_height_fix_it(layout):
+    ds = as_layout(_pressure_dataset(), layout)
     with pytest.raises(UnsupportedInputError, match=r"pass height= .* geopotential height"):
         frameshift.to_inertial(ds)
     zg = xr.DataArray(
@@ -204,35 +211,39 @@ def test_pressure_only_vertical_is_refused_and_height_or_geopotential_height_fix
     assert "geopotential height" in a["ua"].attrs["assumptions"]
 
 
-def test_no_vertical_means_zero_height_and_says_so():
-    ds = BUILDERS["grid"]().isel(z=0).drop_vars("z")
+@eager_and_chunked
+def test_no_vertical_means_zero_height_and_says_so(layout):
+    ds = as_layout(BUILDERS["grid"](), layout).isel(z=0).drop_vars("z")
     out = frameshift.to_inertial(ds)
     assert "height taken as 0 m" in out["ua"].attrs["assumptions"]
     ref = frameshift.to_inertial(ds, height=0.0)
     xr.testing.assert_allclose(out["ua"], ref["ua"])
 
 
-def test_missing_upward_velocity_is_taken_as_zero_and_said_so():
-    ds = BUILDERS["station"]()
+@eager_and_chunked
+def test_missing_upward_velocity_is_taken_as_zero_and_said_so(layout):
+    ds = as_layout(BUILDERS["station"](), layout)
     out = frameshift.to_inertial(ds)
     assert "no upward velocity" in out["u"].attrs["assumptions"]
 
 
-def test_velocity_mapping_for_variables_without_standard_names():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_velocity_mapping_for_variables_without_standard_names(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     for name in ("ua", "va", "wa"):
         del ds[name].attrs["standard_name"]
     with pytest.raises(MissingInputError, match="velocity="):
         frameshift.to_inertial(ds)
     out = frameshift.to_inertial(ds, velocity={"eastward": "ua", "northward": "va", "upward": "wa"})
-    ref = frameshift.to_inertial(BUILDERS["grid"]())
+    ref = frameshift.to_inertial(as_layout(BUILDERS["grid"](), layout))
     np.testing.assert_allclose(out["ua"].values, ref["ua"].values)
     with pytest.raises(ValueError, match="unknown component"):
         frameshift.to_inertial(ds, velocity={"eastwards": "ua", "northward": "va"})
 
 
-def test_several_velocity_sets_need_a_choice():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_several_velocity_sets_need_a_choice(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     ds["u2"] = ds["ua"].copy()
     with pytest.raises(UnsupportedInputError, match="more than one set"):
         frameshift.to_inertial(ds)
@@ -241,28 +252,34 @@ def test_several_velocity_sets_need_a_choice():
     assert out["u2"].attrs["reference_frame"] == "inertial"
 
 
-def test_dataarray_input_is_a_type_error():
+@eager_and_chunked
+def test_dataarray_input_is_a_type_error(layout):
     with pytest.raises(InputTypeError) as info:
         frameshift.to_inertial(BUILDERS["grid"]()["ua"])
     assert isinstance(info.value, TypeError)
 
 
-def test_bad_convention_values_list_the_valid_ones():
+@eager_and_chunked
+def test_bad_convention_values_list_the_valid_ones(layout):
     with pytest.raises(ValueError, match="'local', 'cartesian'"):
-        frameshift.to_inertial(BUILDERS["grid"](), basis="polar")
+        frameshift.to_inertial(as_layout(BUILDERS["grid"](), layout), basis="polar")
     with pytest.raises(ValueError, match="'cirs', 'gcrs'"):
-        frameshift.to_inertial(BUILDERS["grid"](), basis="cartesian", celestial="icrs")
+        frameshift.to_inertial(
+            as_layout(BUILDERS["grid"](), layout), basis="cartesian", celestial="icrs"
+        )
 
 
-def test_accessor_delegates():
-    ds = BUILDERS["trajectory"]()
+@eager_and_chunked
+def test_accessor_delegates(layout):
+    ds = as_layout(BUILDERS["trajectory"](), layout)
     xr.testing.assert_identical(
         ds.frameshift.to_inertial().drop_attrs(), frameshift.to_inertial(ds).drop_attrs()
     )
 
 
-def test_depth_is_positive_down():
-    ds = BUILDERS["station"]()
+@eager_and_chunked
+def test_depth_is_positive_down(layout):
+    ds = as_layout(BUILDERS["station"](), layout)
     out = frameshift.to_inertial(ds)
     shift = (out["u"] - ds["u"]) * 0.01  # cm s-1 to m s-1
     deep, shallow = shift.isel(depth=1), shift.isel(depth=0)
@@ -274,12 +291,15 @@ def test_depth_is_positive_down():
     )
 
 
-def test_the_set_still_to_convert_is_found_where_another_set_was_left_alone():
-    ds = BUILDERS["grid"]()
+@eager_and_chunked
+def test_the_set_still_to_convert_is_found_where_another_set_was_left_alone(layout):
+    ds = as_layout(BUILDERS["grid"](), layout)
     currents = {"standard_name": "eastward_sea_water_velocity", "units": "m s-1"}
     ds["uo"] = ds["ua"].copy(deep=True).assign_attrs(currents)
-    ds["vo"] = ds["va"].copy(deep=True).assign_attrs(
-        currents, standard_name="northward_sea_water_velocity"
+    ds["vo"] = (
+        ds["va"]
+        .copy(deep=True)
+        .assign_attrs(currents, standard_name="northward_sea_water_velocity")
     )
     with pytest.raises(UnsupportedInputError, match="more than one set"):
         frameshift.to_inertial(ds)
