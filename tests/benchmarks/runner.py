@@ -140,7 +140,8 @@ def markdown(result: dict) -> str:
     ]
     for r in result["rows"]:
         ratio = "-" if r["ratio"] is None else f"{r['ratio']:.3g} ({r['ratio_label']})"
-        lines.append(f"| {r['case']} | {r['what']} | {ratio} | {r['target']} | {r['status']} |")
+        cells = (r["case"], r["what"], ratio, r["target"], r["status"])
+        lines.append("| " + " | ".join(str(c).replace("|", "\\|") for c in cells) + " |")
     lines += ["", "## Details (median wall times)", ""]
     detail = result["table"].split("Details (median wall times):\n", 1)[-1]
     lines += [f"- {ln.strip()}" for ln in detail.splitlines() if ln.strip()]
