@@ -371,8 +371,8 @@ def _find_vertical(ds: xr.Dataset, vdims: tuple[str, ...]) -> tuple[str | None, 
         raise UnsupportedInputError(
             f"the vertical coordinate {pressure[0]!r} is pressure, and the Dataset has no "
             "height for it; pass height= (a number in m, a DataArray with length units, or "
-            "the name of a variable) or include geopotential height "
-            "(standard_name geopotential_height)",
+            "the name of a variable; --height on the command line) or include geopotential "
+            "height (standard_name geopotential_height)",
             variable=pressure[0],
             expected="a height, altitude, depth or geopotential_height",
             found="pressure only",
