@@ -401,15 +401,33 @@ def _is_pressure(var: xr.Variable) -> bool:
 def height_in_metres(ds: xr.Dataset, layout: Layout, height: object = None) -> xr.DataArray:
     """The height above the ellipsoid (m, positive up) as a DataArray (may be 0-d)."""
     if layout.vertical is not None:
-        var = ds.variables[layout.vertical]
-        unit = parse_units(layout.vertical, var.attrs.get("units"), "length")
-        factor = layout.vertical_sign * scale_to(unit, "m")
-        return _plain(var) * factor if factor != 1.0 else _plain(var)
+        return length_in_metres(
+            ds.variables[layout.vertical], layout.vertical, layout.vertical_sign
+        )
     if height is None:
         return xr.DataArray(0.0)
+    return given_height_in_metres(ds, height)
+
+
+def length_in_metres(var: xr.DataArray | xr.Variable, name: str, sign: float = 1.0) -> xr.DataArray:
+    """A length variable in metres (times ``sign``), units checked, attributes dropped."""
+    factor = sign * scale_to(parse_units(name, var.attrs.get("units"), "length"), "m")
+    return _plain(var) * factor if factor != 1.0 else _plain(var)
+
+
+def given_height_in_metres(ds: xr.Dataset | None, height: object) -> xr.DataArray:
+    """A ``height=`` argument (variable name, DataArray with length units, or metres)."""
+    if isinstance(height, str):
+        if ds is None or height not in ds.variables:
+            raise MissingInputError(
+                f"height={height!r} names no variable of the input",
+                variable=height,
+                expected="a variable of the Dataset",
+                found="absent",
+            )
+        return length_in_metres(ds.variables[height], height)
     if isinstance(height, xr.DataArray):
-        unit = parse_units(str(height.name or "height"), height.attrs.get("units"), "length")
-        return _plain(height) * scale_to(unit, "m")
+        return length_in_metres(height, str(height.name or "height"))
     try:
         return xr.DataArray(float(height))
     except (TypeError, ValueError) as exc:

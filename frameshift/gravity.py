@@ -16,16 +16,20 @@ import xarray as xr
 from frameshift._apply import apply_kernel
 from frameshift._kernels import accelerations as ak
 from frameshift.cf import stamp
-from frameshift.detect import _degrees, _find_vertical, _plain
+from frameshift.detect import (
+    _degrees,
+    _find_vertical,
+    _plain,
+    given_height_in_metres,
+    length_in_metres,
+)
 from frameshift.errors import (
     ConventionError,
     FrameError,
     InputTypeError,
-    MissingInputError,
     check_choice,
 )
 from frameshift.frames import EARTH, Planet
-from frameshift.units import parse_units, scale_to
 
 __all__ = ["GRAVITY_METHODS", "normal_gravity"]
 
@@ -193,34 +197,9 @@ def _position(data, height) -> tuple[xr.Dataset | None, xr.DataArray, xr.DataArr
         if vertical is not None:
             if note:
                 notes.append(note)
-            return ds, lat, _metres(ds[vertical], vertical) * sign, notes
+            return ds, lat, length_in_metres(ds[vertical], vertical, sign), notes
         notes.append("no vertical coordinate; height taken as 0 m on the reference ellipsoid")
         return ds, lat, xr.DataArray(0.0), notes
     if height is None:
         return ds, lat, xr.DataArray(0.0), notes
-    if isinstance(height, str):
-        if ds is None or height not in ds.variables:
-            raise MissingInputError(
-                f"height={height!r} names no variable of the input",
-                variable=height,
-                expected="a variable of the Dataset",
-                found="absent",
-            )
-        return ds, lat, _metres(ds[height], height), notes
-    if isinstance(height, xr.DataArray):
-        return ds, lat, _metres(height, str(height.name or "height")), notes
-    try:
-        return ds, lat, xr.DataArray(float(height)), notes
-    except (TypeError, ValueError) as exc:
-        raise InputTypeError(
-            f"height= must be a number (m), a DataArray with length units or a variable "
-            f"name; found {type(height).__name__}",
-            variable="height",
-            expected="number, DataArray or str",
-            found=type(height).__name__,
-        ) from exc
-
-
-def _metres(var: xr.DataArray, name: str) -> xr.DataArray:
-    factor = scale_to(parse_units(name, var.attrs.get("units"), "length"), "m")
-    return _plain(var) * factor if factor != 1.0 else _plain(var)
+    return ds, lat, given_height_in_metres(ds, height), notes
