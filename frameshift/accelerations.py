@@ -40,7 +40,7 @@ from frameshift.errors import (
     MissingInputError,
     UnsupportedInputError,
 )
-from frameshift.frames import EARTH, Planet
+from frameshift.frames import EARTH, Planet, check_frame
 from frameshift.timescales import julian_date_parts
 from frameshift.units import parse_units, scale_to
 
@@ -192,7 +192,7 @@ def apparent_accelerations(
     -0.001031261
     """
     require_dataset(ds)
-    _check_frame(frame)
+    check_frame(frame)
     chosen = _check_terms(terms)
     traditional = bool(traditional)
     layout = _layout(ds, velocity, height)
@@ -280,7 +280,7 @@ def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) ->
     >>> round(float(f[0]), 10)  # 2 Ω sin 45°, Ω of WGS 84
     0.0001031261
     """
-    _check_frame(frame)
+    check_frame(frame)
     if isinstance(ds, xr.DataArray):
         ds = ds.to_dataset(name=ds.name if ds.name is not None else "latitude")
     require_dataset(ds)
@@ -292,16 +292,6 @@ def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) ->
 
 
 # --- helpers ----------------------------------------------------------------------------
-def _check_frame(frame: object) -> None:
-    if not isinstance(frame, Planet):
-        raise ConventionError(
-            f"frame must be a frameshift frame such as EARTH; found {type(frame).__name__}",
-            variable="frame",
-            expected="Planet",
-            found=type(frame).__name__,
-        )
-
-
 def _check_terms(terms: str | Iterable[str] | None) -> tuple[str, ...]:
     if terms is None:
         return TERMS

@@ -18,9 +18,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from frameshift._kernels import geodesy, rotation
-from frameshift.errors import FrameError, check_choice
+from frameshift.errors import ConventionError, FrameError, check_choice
 
-__all__ = ["EARTH", "EARTH_SPHERE", "Planet"]
+__all__ = ["EARTH", "EARTH_SPHERE", "Planet", "check_frame"]
 
 _ANGLE_MODELS = ("earth_rotation_angle", "uniform")
 
@@ -171,6 +171,24 @@ class Planet:
         """Velocity Ω × r (m s-1, body-fixed axes) of points fixed to the body."""
         omega = np.array([0.0, 0.0, self.rotation_rate])
         return rotation.frame_velocity(omega, self.place(latitude, longitude, height))
+
+
+def check_frame(frame: object) -> Planet:
+    """Return ``frame`` if it is a frameshift frame; raise :class:`ConventionError` if not.
+
+    Examples
+    --------
+    >>> check_frame(EARTH) is EARTH
+    True
+    """
+    if not isinstance(frame, Planet):
+        raise ConventionError(
+            f"frame must be a frameshift frame such as EARTH; found {type(frame).__name__}",
+            variable="frame",
+            expected="Planet",
+            found=type(frame).__name__,
+        )
+    return frame
 
 
 #: The Earth on the WGS 84 ellipsoid (NIMA TR8350.2: a = 6378137 m,

@@ -24,12 +24,11 @@ from frameshift.detect import (
     length_in_metres,
 )
 from frameshift.errors import (
-    ConventionError,
     FrameError,
     InputTypeError,
     check_choice,
 )
-from frameshift.frames import EARTH, Planet
+from frameshift.frames import EARTH, Planet, check_frame
 
 __all__ = ["GRAVITY_METHODS", "normal_gravity"]
 
@@ -122,13 +121,7 @@ def normal_gravity(
     >>> round(float(g["normal_gravity"]), 10)  # γe of WGS 84, NIMA TR8350.2
     9.7803253359
     """
-    if not isinstance(frame, Planet):
-        raise ConventionError(
-            f"frame must be a frameshift frame such as EARTH; found {type(frame).__name__}",
-            variable="frame",
-            expected="Planet",
-            found=type(frame).__name__,
-        )
+    check_frame(frame)
     check_choice("method", method, GRAVITY_METHODS)
     if frame.gm is None:
         raise FrameError(

@@ -24,7 +24,7 @@ from frameshift.detect import (
     require_dataset,
 )
 from frameshift.errors import ConventionError, FrameError, MissingInputError, check_choice
-from frameshift.frames import EARTH, Planet
+from frameshift.frames import EARTH, Planet, check_frame
 from frameshift.timescales import julian_date_parts
 from frameshift.units import parse_units, scale_to, udunits_string, ureg
 
@@ -133,13 +133,7 @@ def _convert(ds, frame, target, basis, velocity, height, celestial, dut1) -> xr.
     require_dataset(ds)
     check_choice("basis", basis, BASES)
     check_choice("celestial", celestial, CELESTIAL_AXES)
-    if not isinstance(frame, Planet):
-        raise ConventionError(
-            f"frame must be a frameshift frame such as EARTH; found {type(frame).__name__}",
-            variable="frame",
-            expected="Planet",
-            found=type(frame).__name__,
-        )
+    check_frame(frame)
     if target == ROTATING and basis == "cartesian":
         if velocity is not None or height is not None:
             raise ConventionError(
