@@ -1,0 +1,190 @@
+"""Angular momentum of a fluid shell, and the mass and area weights to integrate it, in numpy.
+
+Conventions as in :mod:`frameshift._kernels.geodesy`: geodetic latitude and
+longitude in radians (degrees where the name says so), lengths in metres,
+``a`` the equatorial radius and ``f`` the flattening of the ellipsoid,
+``omega`` the signed rotation rate about the body's z axis (rad s-1; negative
+for a retrograde body). Body-fixed axes: z along the rotation axis, x through
+the prime meridian.
+
+Axial angular momentum per unit mass of air or water moving eastward at u at
+distance p from the axis (AMS Glossary, "absolute angular momentum", with
+p = r cos φ): m = (u + Ω p) p, the sum of a relative part u p and a frame
+(solid-body) part Ω p². The equatorial components follow from r × v in
+body-fixed axes.
+
+Weights: the area of a latitude-longitude cell on the ellipsoid from the
+authalic zone formula (area from the equator to φ, per radian of longitude,
+is (b²/2) [sin φ / (1 - e² sin²φ) + artanh(e sin φ) / e]; a sphere gives a² sin φ),
+and the mass of a layer from its pressure thickness (dm = dp / g per unit area)
+or from density times thickness (dm = ρ dz per unit area).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from frameshift._kernels import geodesy
+
+__all__ = [
+    "axial_momentum",
+    "cell_areas",
+    "cell_edges",
+    "equatorial_factors",
+    "layer_thickness",
+    "pressure_thickness",
+    "weighted_sum",
+    "zone_area",
+]
+
+
+def axial_momentum(lat_deg, h, u, omega: float, *, a: float, f: float):
+    """Axial angular momentum per unit mass, relative and frame parts (m2 s-1).
+
+    ``p = (N + h) cos φ`` is the distance from the rotation axis; the relative
+    part is ``u p`` and the frame part ``Ω p²``.
+
+    Examples
+    --------
+    >>> rel, frame = axial_momentum(0.0, 0.0, 10.0, 7.292115e-5, a=6378137.0, f=0.0)
+    >>> round(float(rel / 6378137.0), 6), round(float(frame / 6378137.0**2 / 7.292115e-5), 6)
+    (10.0, 1.0)
+    """
+    p = geodesy.axis_distance(np.deg2rad(lat_deg), np.asarray(h, dtype=np.float64), a, f)
+    u = np.asarray(u)
+    relative = u * p
+    frame = np.broadcast_to(omega * p * p, np.broadcast_shapes(np.shape(p), u.shape))
+    return np.asarray(relative, dtype=np.float64), np.array(frame, dtype=np.float64)
+
+
+def equatorial_factors(lat_deg, lon_deg, *, a: float, f: float) -> dict[str, np.ndarray]:
+    """Position factors of the equatorial angular momentum on the ellipsoid surface.
+
+    With r = (x, y, z) the body-fixed position and v = u ê + v n̂, the
+    relative angular momentum per unit mass r × v has the components
+    ``h1 = -z cos λ u + q sin λ v`` and ``h2 = -z sin λ u - q cos λ v`` with
+    ``q = p cos φ + z sin φ``; the matter terms use the products of inertia
+    ``-x z`` and ``-y z`` and the axial moment ``x² + y²`` per unit mass.
+    Returns those factors (broadcast over latitude and longitude).
+    """
+    lat = np.deg2rad(np.asarray(lat_deg, dtype=np.float64))
+    lon = np.deg2rad(np.asarray(lon_deg, dtype=np.float64))
+    sin_lat, cos_lat = np.sin(lat), np.cos(lat)
+    n = geodesy.prime_vertical_radius(sin_lat, a, f)
+    e2 = f * (2.0 - f)
+    p = n * cos_lat
+    z = n * (1.0 - e2) * sin_lat
+    q = p * cos_lat + z * sin_lat
+    cos_lon, sin_lon = np.cos(lon), np.sin(lon)
+    x, y = p * cos_lon, p * sin_lon
+    return {
+        "h1_u": -z * cos_lon,
+        "h1_v": q * sin_lon,
+        "h2_u": -z * sin_lon,
+        "h2_v": -q * cos_lon,
+        "i13": -x * z,
+        "i23": -y * z,
+        "i33": p * p + 0.0 * lon,
+    }
+
+
+def zone_area(lat: np.ndarray, a: float, f: float) -> np.ndarray:
+    """Area (m2) between the equator and latitude ``lat`` (rad), per radian of longitude.
+
+    Examples
+    --------
+    >>> round(float(zone_area(np.pi / 2, 1.0, 0.0)), 12)  # a hemisphere of the unit sphere / 2π
+    1.0
+    """
+    s = np.sin(np.asarray(lat, dtype=np.float64))
+    if f == 0.0:
+        return a * a * s
+    e2 = f * (2.0 - f)
+    e = np.sqrt(e2)
+    b = a * (1.0 - f)
+    return 0.5 * b * b * (s / (1.0 - e2 * s * s) + np.arctanh(e * s) / e)
+
+
+def cell_edges(centres: np.ndarray, lower: float | None = None, upper: float | None = None):
+    """Edges of cells around sorted or reverse-sorted ``centres``: midpoints, outer halves.
+
+    The outer edges lie half a spacing beyond the outer centres, clipped to
+    ``[lower, upper]`` where given. Returns an array one longer than ``centres``.
+
+    Examples
+    --------
+    >>> cell_edges(np.array([-90.0, 0.0, 90.0]), -90.0, 90.0).tolist()
+    [-90.0, -45.0, 45.0, 90.0]
+    """
+    c = np.asarray(centres, dtype=np.float64)
+    if c.size == 1:
+        raise ValueError("one centre has no spacing to make cell edges from")
+    edges = np.empty(c.size + 1)
+    edges[1:-1] = 0.5 * (c[1:] + c[:-1])
+    edges[0] = c[0] - 0.5 * (c[1] - c[0])
+    edges[-1] = c[-1] + 0.5 * (c[-1] - c[-2])
+    if lower is not None or upper is not None:
+        edges = np.clip(edges, lower, upper)
+    return edges
+
+
+def cell_areas(lat_bounds_deg: np.ndarray, lon_widths_deg: np.ndarray, a: float, f: float):
+    """Areas (m2) of latitude-longitude cells on the ellipsoid, shape ``(nlat, nlon)``.
+
+    ``lat_bounds_deg`` has shape ``(nlat, 2)`` (either order), ``lon_widths_deg``
+    shape ``(nlon,)``.
+    """
+    bounds = np.deg2rad(np.asarray(lat_bounds_deg, dtype=np.float64))
+    zone = np.abs(zone_area(bounds[:, 1], a, f) - zone_area(bounds[:, 0], a, f))
+    return zone[:, None] * np.deg2rad(np.abs(np.asarray(lon_widths_deg, dtype=np.float64)))
+
+
+def pressure_thickness(bounds: np.ndarray, surface=None) -> np.ndarray:
+    """Pressure thickness (Pa) of layers, trailing axis the level.
+
+    ``bounds`` has shape ``(nlev, 2)`` (either order). With ``surface`` (the
+    surface pressure, any leading shape), the part of each layer below the
+    surface is cut off: a layer wholly below the surface has thickness 0, a
+    layer the surface passes through keeps the part above it.
+    """
+    b = np.asarray(bounds, dtype=np.float64)
+    top, bottom = b.min(axis=1), b.max(axis=1)
+    if surface is None:
+        return bottom - top
+    ps = np.asarray(surface, dtype=np.float64)[..., None]
+    return np.clip(np.minimum(bottom, ps) - top, 0.0, None)
+
+
+def layer_thickness(bounds: np.ndarray) -> np.ndarray:
+    """Thickness (m) of layers with ``bounds`` of shape ``(nlev, 2)`` (either order)."""
+    b = np.asarray(bounds, dtype=np.float64)
+    return np.abs(b[:, 1] - b[:, 0])
+
+
+def weighted_sum(values, weights, *, ncore: int) -> np.ndarray:
+    """Sum of ``values * weights`` over the trailing ``ncore`` axes, in float64.
+
+    ``weights`` broadcast against ``values`` (its leading axes may be of
+    length 1). Cells of zero weight add nothing even where the value is NaN
+    (levels below the ground); elsewhere a NaN value makes the sum NaN.
+
+    Examples
+    --------
+    >>> weighted_sum(np.array([[1.0, np.nan], [2.0, 3.0]]), np.array([2.0, 0.0]), ncore=1)
+    array([2., 4.])
+    """
+    values = np.asarray(values)
+    weights = np.asarray(weights, dtype=np.float64)
+    core = values.shape[values.ndim - ncore:]
+    loop = values.shape[: values.ndim - ncore]
+    k = int(np.prod(core, dtype=np.int64))
+    w_loop = weights.shape[: weights.ndim - ncore]
+    w = np.broadcast_to(weights, (*w_loop, *core)).reshape(*w_loop, k)
+    vals = values.reshape(*loop, k)
+    zero = w == 0.0
+    if zero.any():
+        vals = np.where(zero, 0.0, vals)
+    if all(n == 1 for n in w_loop):
+        out = vals.reshape(-1, k) @ w.reshape(k)
+        return out.reshape(loop).astype(np.float64, copy=False)
+    return np.einsum("...k,...k->...", vals, w, dtype=np.float64)
