@@ -6,6 +6,15 @@ frame adds, on xarray data with units and CF metadata kept.
 """
 
 from frameshift.accelerations import apparent_accelerations, coriolis_parameters
+from frameshift.diagnostics import (
+    absolute_vorticity,
+    axial_angular_momentum,
+    excitation,
+    inertial_demodulation,
+    integrate_angular_momentum,
+    rotary_spectrum,
+    track_forces,
+)
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -37,9 +46,16 @@ __all__ = [
     "UnitsError",
     "UnsupportedInputError",
     "__version__",
+    "absolute_vorticity",
     "apparent_accelerations",
+    "axial_angular_momentum",
     "coriolis_parameters",
+    "excitation",
+    "inertial_demodulation",
+    "integrate_angular_momentum",
     "normal_gravity",
+    "rotary_spectrum",
     "to_inertial",
     "to_rotating",
+    "track_forces",
 ]
