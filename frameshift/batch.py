@@ -63,6 +63,10 @@ class Operation:
     def apply(self, ds: xr.Dataset) -> xr.Dataset:
         """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
         s = dict(self.settings)
+        if self.command == "momentum":
+            from frameshift.diagnostics.command import apply_momentum
+
+            return apply_momentum(ds, s)
         if self.command == "convert":
             from frameshift.transforms import to_inertial, to_rotating
 

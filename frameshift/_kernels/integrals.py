@@ -33,6 +33,7 @@ __all__ = [
     "equatorial_factors",
     "layer_thickness",
     "pressure_thickness",
+    "pressure_thickness_above",
     "weighted_sum",
     "zone_area",
 ]
@@ -139,18 +140,33 @@ def cell_areas(lat_bounds_deg: np.ndarray, lon_widths_deg: np.ndarray, a: float,
     return zone[:, None] * np.deg2rad(np.abs(np.asarray(lon_widths_deg, dtype=np.float64)))
 
 
-def pressure_thickness(bounds: np.ndarray, surface=None) -> np.ndarray:
-    """Pressure thickness (Pa) of layers, trailing axis the level.
+def pressure_thickness(bounds: np.ndarray) -> np.ndarray:
+    """Pressure thickness (Pa) of layers with ``bounds`` of shape ``(nlev, 2)`` (either order).
 
-    ``bounds`` has shape ``(nlev, 2)`` (either order). With ``surface`` (the
-    surface pressure, any leading shape), the part of each layer below the
-    surface is cut off: a layer wholly below the surface has thickness 0, a
-    layer the surface passes through keeps the part above it.
+    Examples
+    --------
+    >>> pressure_thickness(np.array([[0.0, 300.0], [300.0, 800.0]])).tolist()
+    [300.0, 500.0]
+    """
+    b = np.asarray(bounds, dtype=np.float64)
+    return b.max(axis=1) - b.min(axis=1)
+
+
+def pressure_thickness_above(surface, *, bounds: np.ndarray) -> np.ndarray:
+    """Pressure thickness (Pa) of the part of each layer above the surface pressure.
+
+    ``surface`` has any shape; the result has a trailing level axis. A layer
+    wholly below the surface has thickness 0; a layer the surface passes
+    through keeps the part above it.
+
+    Examples
+    --------
+    >>> bounds = np.array([[np.inf, 925.0], [925.0, 775.0], [775.0, 0.0]])
+    >>> pressure_thickness_above(np.array(800.0), bounds=bounds).tolist()
+    [0.0, 25.0, 775.0]
     """
     b = np.asarray(bounds, dtype=np.float64)
     top, bottom = b.min(axis=1), b.max(axis=1)
-    if surface is None:
-        return bottom - top
     ps = np.asarray(surface, dtype=np.float64)[..., None]
     return np.clip(np.minimum(bottom, ps) - top, 0.0, None)
 

@@ -410,7 +410,7 @@ class _Grid:
                 thick = xr.DataArray(integrals.pressure_thickness(bounds), dims=(lev.dim,))
             else:
                 note += "; cut at the surface pressure"
-                thick = apply_kernel(integrals.pressure_thickness, ps,
+                thick = apply_kernel(integrals.pressure_thickness_above, ps,
                                      output_core_dims=((lev.dim,),),
                                      output_sizes={lev.dim: lev.values.size},
                                      kwargs={"bounds": bounds})
