@@ -131,28 +131,36 @@ def band_fraction(clockwise, counterclockwise, inertial, *, frequency, low: floa
         return np.sum(np.where(inside, sense, 0.0), axis=-1) / total
 
 
-def demodulate(u, v, inertial, *, seconds, window: int, index=None, split: bool = False):
+def demodulate(u, v, inertial, *, seconds, dt: float, window: int | None = None, index=None,
+               split: bool = False):
     """Complex demodulation at the signed inertial frequency: amplitude and phase.
 
     ``w = u + i v`` is multiplied by ``exp(i f t)`` (f in rad s-1, t in s), which
     brings motion turning as ``exp(-i f t)`` (clockwise for f > 0) to zero
-    frequency, then averaged with a Hann window of ``window`` samples (odd).
-    So w ≈ amplitude × exp(i (phase - f t)). Where the window reaches past
-    the record or over a gap, the result is NaN; gaps are refused unless ``split``.
+    frequency, then averaged with a Hann window of ``window`` samples (odd;
+    default one inertial period 2π / |f| of each record, ``dt`` being the
+    sampling step in s). So w ≈ amplitude × exp(i (phase - f t)). Where the
+    window reaches past the record or over a gap, the result is NaN; gaps are
+    refused unless ``split``.
 
     Examples
     --------
     >>> t = np.arange(0.0, 4 * 86400.0, 600.0); f = 1.0e-4
-    >>> amp, ph = demodulate(0.2 * np.cos(f * t - 0.5), -0.2 * np.sin(f * t - 0.5), seconds=t,
-    ...                      inertial=f, window=105)
+    >>> amp, ph = demodulate(0.2 * np.cos(f * t - 0.5), -0.2 * np.sin(f * t - 0.5), f, seconds=t,
+    ...                      dt=600.0)
     >>> round(float(np.nanmean(amp)), 6), round(float(np.nanmean(ph)), 6)
     (0.2, 0.5)
     """
     w = np.asarray(u, dtype=np.float64) + 1j * np.asarray(v, dtype=np.float64)
     t = np.asarray(seconds, dtype=np.float64)
-    f = np.asarray(inertial, dtype=np.float64)[..., None]
-    z = w * np.exp(1j * f * t)
-    z = _regular(z, index)
+    f = np.broadcast_to(np.asarray(inertial, dtype=np.float64), w.shape[:-1])
+    if np.any(f == 0.0):
+        raise UnsupportedInputError(
+            "the inertial frequency is 0 (a record on the equator, or a frame that does not "
+            "rotate): there is nothing to demodulate at",
+            variable="latitude", expected="latitude away from the equator", found="f = 0",
+        )
+    z = _regular(w * np.exp(1j * f[..., None] * t), index)
     good = np.isfinite(z)
     if not split and not good.all():
         raise UnsupportedInputError(
@@ -161,16 +169,30 @@ def demodulate(u, v, inertial, *, seconds, window: int, index=None, split: bool 
             variable="velocity", expected="a record without gaps", found="gaps",
         )
     z = np.where(good, z, 0.0)
-    kernel = np.hanning(window + 2)[1:-1]
-    kernel /= kernel.sum()
-    shape = (1,) * (z.ndim - 1) + (window,)
-    smooth = signal.oaconvolve(z, kernel.reshape(shape), mode="same", axes=-1)
-    bad = signal.oaconvolve((~good).astype(np.float64) + 0.0, np.ones(shape), mode="same",
-                            axes=-1)
-    edge = np.ones(z.shape[-1])
-    reach = signal.oaconvolve(edge, np.ones(window), mode="same")
-    invalid = (bad > 0.5) | (reach < window - 0.5)
-    smooth = np.where(invalid, np.nan + 0j, smooth)
+    n = z.shape[-1]
+    if window is not None:
+        windows = np.full(f.shape, int(window))
+    else:
+        windows = np.rint(2.0 * np.pi / np.abs(f) / dt).astype(np.int64)
+    windows = windows + 1 - windows % 2
+    if np.any(windows < 3) or np.any(windows > n):
+        raise UnsupportedInputError(
+            f"a demodulation window of {int(windows.max())} samples does not fit the record "
+            f"of {n} samples (3 samples at least)",
+            variable="window", expected=f"3 to {n} samples", found=str(int(windows.max())),
+        )
+    smooth = np.full(z.shape, np.nan + 0j)
+    for size in np.unique(windows):
+        rows = windows == size
+        kernel = np.hanning(size + 2)[1:-1]
+        kernel /= kernel.sum()
+        sub, ok = z[rows], good[rows]
+        shape = (1,) * (sub.ndim - 1) + (int(size),)
+        mean = signal.oaconvolve(sub, kernel.reshape(shape), mode="same", axes=-1)
+        bad = signal.oaconvolve((~ok).astype(np.float64), np.ones(shape), mode="same", axes=-1)
+        reach = signal.oaconvolve(np.ones(n), np.ones(int(size)), mode="same")
+        invalid = (bad > 0.5) | (reach < size - 0.5)
+        smooth[rows] = np.where(invalid, np.nan + 0j, mean)
     if index is not None:
         smooth = smooth[..., index]
     return np.abs(smooth), np.angle(smooth)

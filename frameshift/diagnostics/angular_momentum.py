@@ -318,8 +318,7 @@ class _Grid:
     def __init__(self, ds, vel, frame, surface_pressure, density, vertical, gravity) -> None:
         dims = tuple(map(str, vel.u.dims))
         self.a, self.f = float(frame.equatorial_radius), float(frame.flattening)
-        self.lat_dim = common.grid_axis(ds, vel.latitude, "latitude", dims)
-        self.lon_dim = common.grid_axis(ds, vel.longitude, "longitude", dims)
+        self.lat_dim, self.lon_dim = common.grid_axes(ds, vel)
         self.lat = common.as_plain(ds.variables[vel.latitude]).astype(np.float64)
         self.lon = common.as_plain(ds.variables[vel.longitude]).astype(np.float64)
         self.time_dim = None

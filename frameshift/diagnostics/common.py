@@ -30,6 +30,7 @@ __all__ = [
     "find_levels",
     "finish",
     "frame_attrs",
+    "grid_axes",
     "grid_axis",
     "require_dataset",
     "seconds_along",
@@ -124,6 +125,22 @@ def grid_axis(ds: xr.Dataset, name: str, axis: str, dims: tuple[str, ...]) -> st
             found="unsorted or repeated values",
         )
     return str(var.dims[0])
+
+
+def grid_axes(ds: xr.Dataset, vel: Velocity) -> tuple[str, str]:
+    """Latitude and longitude dimensions of a latitude-longitude grid; refuse anything else."""
+    dims = tuple(map(str, vel.u.dims))
+    lat_var, lon_var = ds.variables[vel.latitude], ds.variables[vel.longitude]
+    if lat_var.ndim == 1 and lat_var.dims == lon_var.dims:
+        lat_dim = str(lat_var.dims[0])
+        raise UnsupportedInputError(
+            f"latitude {vel.latitude!r} and longitude {vel.longitude!r} share the dimension "
+            f"{lat_dim!r} (stations or a track); this diagnostic needs a latitude-longitude grid",
+            variable=vel.latitude, expected="latitude and longitude on their own dimensions",
+            found=f"both on {lat_dim!r}",
+        )
+    return (grid_axis(ds, vel.latitude, "latitude", dims),
+            grid_axis(ds, vel.longitude, "longitude", dims))
 
 
 def bounds_of(ds: xr.Dataset, name: str) -> np.ndarray | None:

@@ -219,36 +219,22 @@ def inertial_demodulation(
     0.3
     """
     rec = _Record(ds, velocity, frame, gaps)
-    if np.any(rec.f.values == 0.0):
-        raise UnsupportedInputError(
-            "the inertial frequency is 0 at the equator (or for a frame that does not rotate): "
-            "there is nothing to demodulate at",
-            variable=rec.vel.latitude, expected="latitude away from the equator", found="f = 0",
-        )
-    if window is None:
-        longest = float(np.max(2.0 * np.pi / np.abs(rec.f.values)))
-        samples = int(round(longest / rec.dt))
-    else:
-        samples = _samples(window, rec.dt, "window")
-    samples += 1 - samples % 2
-    if samples < 3 or samples > rec.length:
-        raise UnsupportedInputError(
-            f"the demodulation window of {samples} samples does not fit the record of "
-            f"{rec.length} samples",
-            variable="window", expected=f"3 to {rec.length} samples", found=str(samples),
-        )
+    samples = None if window is None else _samples(window, rec.dt, "window")
     amplitude, phase = apply_kernel(
         spectra.demodulate, rec.u, rec.v, rec.f, input_core_dims=([rec.time_dim], [rec.time_dim], []),
         output_core_dims=([rec.time_dim], [rec.time_dim]),
-        kwargs={"seconds": rec.seconds, "window": samples, "index": rec.index, "split": rec.split},
+        kwargs={"seconds": rec.seconds, "dt": rec.dt, "window": samples, "index": rec.index,
+                "split": rec.split},
     )
     amplitude = amplitude.transpose(*rec.vel.u.dims)
     phase = phase.transpose(*rec.vel.u.dims)
     first = ds.variables[rec.time_name].values[0]
     base = {**common.frame_attrs(rec.frame),
             "velocity_variables": f"{rec.vel.eastward} {rec.vel.northward}",
-            "demodulation": f"Hann window of {samples} samples ({samples * rec.dt:g} s); "
-            f"t in seconds from {first}; u + i v ≈ amplitude exp(i (phase - f t))"}
+            "demodulation": "Hann window of "
+            + ("one inertial period" if samples is None
+               else f"{samples + 1 - samples % 2} samples ({(samples + 1 - samples % 2) * rec.dt:g} s)")
+            + f"; t in seconds from {first}; u + i v ≈ amplitude exp(i (phase - f t))"}
     out = xr.Dataset({
         "inertial_amplitude": amplitude.assign_attrs(
             long_name="amplitude of the inertial oscillation", units="m s-1", **base),

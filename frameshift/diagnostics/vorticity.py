@@ -59,8 +59,7 @@ def absolute_vorticity(
     frame = check_frame(frame)
     vel = common.velocity_in_si(ds, velocity, frame)
     dims = tuple(map(str, vel.u.dims))
-    lat_dim = common.grid_axis(ds, vel.latitude, "latitude", dims)
-    lon_dim = common.grid_axis(ds, vel.longitude, "longitude", dims)
+    lat_dim, lon_dim = common.grid_axes(ds, vel)
     lat = np.asarray(ds.variables[vel.latitude].values, dtype=np.float64)
     lon = np.asarray(ds.variables[vel.longitude].values, dtype=np.float64)
     if lat.size < 3 or lon.size < 3:
