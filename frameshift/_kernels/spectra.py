@@ -77,7 +77,8 @@ def rotary_welch(u, v, *, fs: float, nperseg: int, index=None, split: bool = Fal
     Examples
     --------
     >>> t = np.arange(512.0)
-    >>> cw, ccw = rotary_welch(np.cos(0.25 * np.pi * t), -np.sin(0.25 * np.pi * t), fs=1.0, nperseg=64)
+    >>> u, v = np.cos(0.25 * np.pi * t), -np.sin(0.25 * np.pi * t)
+    >>> cw, ccw = rotary_welch(u, v, fs=1.0, nperseg=64)
     >>> int(np.argmax(cw)), bool(cw.max() > 1e3 * ccw.max())  # 1/8 cycle per sample = bin 8
     (8, True)
     """

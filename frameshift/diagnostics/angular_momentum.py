@@ -17,7 +17,12 @@ import xarray as xr
 from frameshift._apply import apply_kernel
 from frameshift._kernels import geodesy, integrals
 from frameshift.diagnostics import common
-from frameshift.errors import ConventionError, MissingInputError, UnsupportedInputError, check_choice
+from frameshift.errors import (
+    ConventionError,
+    MissingInputError,
+    UnsupportedInputError,
+    check_choice,
+)
 from frameshift.frames import EARTH, check_frame
 
 __all__ = [
@@ -76,10 +81,12 @@ def axial_angular_momentum(
     Examples
     --------
     >>> import xarray as xr, frameshift
-    >>> ds = xr.Dataset({"u": ("lat", [10.0], {"standard_name": "eastward_wind", "units": "m s-1"}),
-    ...                  "v": ("lat", [0.0], {"standard_name": "northward_wind", "units": "m s-1"})},
-    ...                 coords={"lat": ("lat", [0.0], {"standard_name": "latitude", "units": "degrees_north"}),
-    ...                         "lon": ((), 0.0, {"standard_name": "longitude", "units": "degrees_east"})})
+    >>> def cf(name, units):
+    ...     return {"standard_name": name, "units": units}
+    >>> ds = xr.Dataset({"u": ("lat", [10.0], cf("eastward_wind", "m s-1")),
+    ...                  "v": ("lat", [0.0], cf("northward_wind", "m s-1"))},
+    ...                 coords={"lat": ("lat", [0.0], cf("latitude", "degrees_north")),
+    ...                         "lon": ((), 0.0, cf("longitude", "degrees_east"))})
     >>> out = frameshift.axial_angular_momentum(ds)
     >>> round(float(out.superrotation_index[0] * 465.1011), 3)  # u / (Ω a)
     10.0
@@ -179,11 +186,14 @@ def integrate_angular_momentum(
     >>> import numpy as np, xarray as xr, frameshift
     >>> lat = np.linspace(-89.5, 89.5, 180); lon = np.arange(0.0, 360.0, 1.0)
     >>> u = 10.0 * np.cos(np.deg2rad(lat))[:, None] * np.ones(lon.size)
-    >>> ds = xr.Dataset({"u": (("lat", "lon"), u, {"standard_name": "eastward_wind", "units": "m s-1"}),
-    ...                  "v": (("lat", "lon"), 0 * u, {"standard_name": "northward_wind", "units": "m s-1"})},
-    ...                 coords={"lat": ("lat", lat, {"standard_name": "latitude", "units": "degrees_north"}),
-    ...                         "lon": ("lon", lon, {"standard_name": "longitude", "units": "degrees_east"})})
-    >>> out = frameshift.integrate_angular_momentum(ds, frameshift.EARTH_SPHERE, surface_pressure=1.0e5)
+    >>> def cf(name, units):
+    ...     return {"standard_name": name, "units": units}
+    >>> ds = xr.Dataset({"u": (("lat", "lon"), u, cf("eastward_wind", "m s-1")),
+    ...                  "v": (("lat", "lon"), 0 * u, cf("northward_wind", "m s-1"))},
+    ...                 coords={"lat": ("lat", lat, cf("latitude", "degrees_north")),
+    ...                         "lon": ("lon", lon, cf("longitude", "degrees_east"))})
+    >>> out = frameshift.integrate_angular_momentum(ds, frameshift.EARTH_SPHERE,
+    ...                                             surface_pressure=1.0e5)
     >>> mass, a = float(out.mass), frameshift.EARTH_SPHERE.equatorial_radius
     >>> round(float(out.angular_momentum_relative) / (2 / 3 * mass * a * 10.0), 4)
     1.0
@@ -213,7 +223,8 @@ def integrate_angular_momentum(
             units=_MOMENTUM_UNITS, **base),
         "angular_momentum_absolute": (relative + frame_part).assign_attrs(
             long_name="absolute axial angular momentum", units=_MOMENTUM_UNITS, **base),
-        "mass": mass.assign_attrs(long_name="mass of the fluid integrated over", units="kg", **base),
+        "mass": mass.assign_attrs(long_name="mass of the fluid integrated over", units="kg",
+                                  **base),
     })
     out = out.assign_coords(_coords_on(ds, out.dims))
     return common.finish(out, ds, f"angular momentum integrated over: {over} ({frame.name})")
@@ -372,7 +383,9 @@ class _Grid:
 
     def _mass_per_area(self, ds, surface_pressure, density, gravity):
         lev = self.levels
-        ps = None if surface_pressure is None else common.surface_pressure_in_pa(ds, surface_pressure)
+        ps = None
+        if surface_pressure is not None:
+            ps = common.surface_pressure_in_pa(ds, surface_pressure)
         if lev is None:
             if density is not None:
                 raise MissingInputError(

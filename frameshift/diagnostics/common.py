@@ -293,7 +293,9 @@ def _number(value: object, name: str, unit: str) -> float:
     return number
 
 
-def seconds_along(ds: xr.Dataset, time: str | None, dims: tuple[str, ...]) -> tuple[str, np.ndarray]:
+def seconds_along(
+    ds: xr.Dataset, time: str | None, dims: tuple[str, ...]
+) -> tuple[str, np.ndarray]:
     """The time dimension along ``dims`` and its values in seconds from the first."""
     if time is None or ds.variables[time].ndim != 1 or ds.variables[time].dims[0] not in dims:
         raise MissingInputError(

@@ -126,10 +126,14 @@ def rotary_spectrum(
     >>> t = np.datetime64("2031-05-01", "ns") + np.arange(2000) * np.timedelta64(30, "m")
     >>> f = 2 * frameshift.EARTH.rotation_rate * np.sin(np.deg2rad(40.0))
     >>> s = (t - t[0]) / np.timedelta64(1, "s")
-    >>> ds = xr.Dataset({"u": ("time", 0.2 * np.cos(f * s), {"standard_name": "eastward_sea_water_velocity", "units": "m s-1"}),
-    ...                  "v": ("time", -0.2 * np.sin(f * s), {"standard_name": "northward_sea_water_velocity", "units": "m s-1"})},
-    ...                 coords={"time": t, "lat": ((), 40.0, {"standard_name": "latitude", "units": "degrees_north"}),
-    ...                         "lon": ((), -30.0, {"standard_name": "longitude", "units": "degrees_east"})})
+    >>> def cf(name, units):
+    ...     return {"standard_name": name, "units": units}
+    >>> ds = xr.Dataset({"u": ("time", 0.2 * np.cos(f * s),
+    ...                        cf("eastward_sea_water_velocity", "m s-1")),
+    ...                  "v": ("time", -0.2 * np.sin(f * s),
+    ...                        cf("northward_sea_water_velocity", "m s-1"))},
+    ...                 coords={"time": t, "lat": ((), 40.0, cf("latitude", "degrees_north")),
+    ...                         "lon": ((), -30.0, cf("longitude", "degrees_east"))})
     >>> out = frameshift.rotary_spectrum(ds)
     >>> bool(out.inertial_band_fraction > 0.9)
     True
@@ -210,10 +214,14 @@ def inertial_demodulation(
     >>> t = np.datetime64("2031-05-01", "ns") + np.arange(500) * np.timedelta64(30, "m")
     >>> f = 2 * frameshift.EARTH.rotation_rate * np.sin(np.deg2rad(40.0))
     >>> s = (t - t[0]) / np.timedelta64(1, "s")
-    >>> ds = xr.Dataset({"u": ("time", 0.3 * np.cos(f * s), {"standard_name": "eastward_sea_water_velocity", "units": "m s-1"}),
-    ...                  "v": ("time", -0.3 * np.sin(f * s), {"standard_name": "northward_sea_water_velocity", "units": "m s-1"})},
-    ...                 coords={"time": t, "lat": ((), 40.0, {"standard_name": "latitude", "units": "degrees_north"}),
-    ...                         "lon": ((), -30.0, {"standard_name": "longitude", "units": "degrees_east"})})
+    >>> def cf(name, units):
+    ...     return {"standard_name": name, "units": units}
+    >>> ds = xr.Dataset({"u": ("time", 0.3 * np.cos(f * s),
+    ...                        cf("eastward_sea_water_velocity", "m s-1")),
+    ...                  "v": ("time", -0.3 * np.sin(f * s),
+    ...                        cf("northward_sea_water_velocity", "m s-1"))},
+    ...                 coords={"time": t, "lat": ((), 40.0, cf("latitude", "degrees_north")),
+    ...                         "lon": ((), -30.0, cf("longitude", "degrees_east"))})
     >>> out = frameshift.inertial_demodulation(ds)
     >>> round(float(out.inertial_amplitude.isel(time=250)), 6)
     0.3
@@ -221,7 +229,8 @@ def inertial_demodulation(
     rec = _Record(ds, velocity, frame, gaps)
     samples = None if window is None else _samples(window, rec.dt, "window")
     amplitude, phase = apply_kernel(
-        spectra.demodulate, rec.u, rec.v, rec.f, input_core_dims=([rec.time_dim], [rec.time_dim], []),
+        spectra.demodulate, rec.u, rec.v, rec.f,
+        input_core_dims=([rec.time_dim], [rec.time_dim], []),
         output_core_dims=([rec.time_dim], [rec.time_dim]),
         kwargs={"seconds": rec.seconds, "dt": rec.dt, "window": samples, "index": rec.index,
                 "split": rec.split},
@@ -233,7 +242,7 @@ def inertial_demodulation(
             "velocity_variables": f"{rec.vel.eastward} {rec.vel.northward}",
             "demodulation": "Hann window of "
             + ("one inertial period" if samples is None
-               else f"{samples + 1 - samples % 2} samples ({(samples + 1 - samples % 2) * rec.dt:g} s)")
+               else f"{samples + 1 - samples % 2} samples")
             + f"; t in seconds from {first}; u + i v ≈ amplitude exp(i (phase - f t))"}
     out = xr.Dataset({
         "inertial_amplitude": amplitude.assign_attrs(
@@ -276,7 +285,7 @@ def _samples(value, dt: float, name: str) -> int:
             f"np.timedelta64(4, 'D'); found {value!r}",
             variable=name, expected="int or duration", found=repr(value),
         ) from exc
-    return int(round(seconds / dt))
+    return round(seconds / dt)
 
 
 def _segment(segment, rec: _Record) -> int:

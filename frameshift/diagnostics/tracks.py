@@ -16,8 +16,7 @@ from frameshift.units import parse_units, scale_to
 __all__ = ["track_forces"]
 
 _COMPONENTS = ("eastward", "northward", "upward")
-_HEIGHTS = {"height_above_reference_ellipsoid": 1.0, "altitude": 1.0, "height": 1.0,
-            "depth": -1.0}
+_HEIGHTS = ("height_above_reference_ellipsoid", "altitude", "height", "depth")
 _LONG = {
     "velocity": ("velocity relative to the rotating body, from the positions", "m s-1"),
     "acceleration": ("acceleration relative to the rotating body, from the positions", "m s-2"),
@@ -67,8 +66,10 @@ def track_forces(
     >>> import numpy as np, xarray as xr, frameshift
     >>> t = np.datetime64("2031-02-01", "ns") + np.arange(6) * np.timedelta64(1, "h")
     >>> ds = xr.Dataset(coords={"time": t,
-    ...     "lat": ("time", np.full(6, 10.0), {"standard_name": "latitude", "units": "degrees_north"}),
-    ...     "lon": ("time", np.full(6, 20.0), {"standard_name": "longitude", "units": "degrees_east"})})
+    ...     "lat": ("time", np.full(6, 10.0), {"standard_name": "latitude",
+    ...                                        "units": "degrees_north"}),
+    ...     "lon": ("time", np.full(6, 20.0), {"standard_name": "longitude",
+    ...                                        "units": "degrees_east"})})
     >>> out = frameshift.track_forces(ds)  # at rest: the force balances the centrifugal term
     >>> bool(abs(float(out.force_northward[0]) + float(out.centrifugal_northward[0])) < 1e-9)
     True
@@ -158,7 +159,8 @@ def _find_time(ds: xr.Dataset, dims: tuple[str, ...]) -> str:
         raise (MissingInputError if not hits else UnsupportedInputError)(
             f"{'no' if not hits else 'more than one'} decoded time coordinate along the track "
             f"dimensions {dims} ({hits or 'none'}); name it with time=",
-            variable="time", expected="one decoded time coordinate", found=", ".join(hits) or "none",
+            variable="time", expected="one decoded time coordinate",
+            found=", ".join(hits) or "none",
         )
     return hits[0]
 
@@ -173,7 +175,7 @@ def _height(ds: xr.Dataset, height, dims) -> tuple[xr.DataArray, str]:
                 variable="height", expected="str or number", found=type(height).__name__,
             ) from exc
     if height is None:
-        for sname, sign in _HEIGHTS.items():
+        for sname in _HEIGHTS:
             hits = [str(n) for n, v in ds.variables.items()
                     if v.attrs.get("standard_name") == sname and set(v.dims) <= set(dims)]
             if hits:

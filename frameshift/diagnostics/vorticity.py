@@ -48,10 +48,12 @@ def absolute_vorticity(
     >>> import numpy as np, xarray as xr, frameshift
     >>> lat = np.arange(-80.0, 81.0, 1.0); lon = np.arange(0.0, 360.0, 2.0)
     >>> u = 5.0 * np.ones((lat.size, lon.size))
-    >>> ds = xr.Dataset({"u": (("lat", "lon"), u, {"standard_name": "eastward_wind", "units": "m s-1"}),
-    ...                  "v": (("lat", "lon"), 0 * u, {"standard_name": "northward_wind", "units": "m s-1"})},
-    ...                 coords={"lat": ("lat", lat, {"standard_name": "latitude", "units": "degrees_north"}),
-    ...                         "lon": ("lon", lon, {"standard_name": "longitude", "units": "degrees_east"})})
+    >>> def cf(name, units):
+    ...     return {"standard_name": name, "units": units}
+    >>> ds = xr.Dataset({"u": (("lat", "lon"), u, cf("eastward_wind", "m s-1")),
+    ...                  "v": (("lat", "lon"), 0 * u, cf("northward_wind", "m s-1"))},
+    ...                 coords={"lat": ("lat", lat, cf("latitude", "degrees_north")),
+    ...                         "lon": ("lon", lon, cf("longitude", "degrees_east"))})
     >>> out = frameshift.absolute_vorticity(ds)
     >>> float(out.relative_vorticity.sel(lat=0.0)[0]) == 0.0  # uniform eastward flow: tan φ term
     True
@@ -99,10 +101,11 @@ def absolute_vorticity(
 
     out = xr.Dataset({
         "relative_vorticity": zeta.assign_attrs(
-            attrs("relative_vorticity", "upward relative vorticity of the Earth-relative velocity")),
+            attrs("relative_vorticity",
+                  "upward relative vorticity of the Earth-relative velocity")),
         "planetary_vorticity": planetary.assign_attrs(
-            long_name="planetary vorticity 2 Ω sin φ", units="s-1", standard_name="coriolis_parameter",
-            **common.frame_attrs(frame)),
+            long_name="planetary vorticity 2 Ω sin φ", units="s-1",
+            standard_name="coriolis_parameter", **common.frame_attrs(frame)),
         "absolute_vorticity": absolute.transpose(*vel.u.dims).assign_attrs(
             attrs("absolute_vorticity", "upward absolute vorticity (relative + planetary)")),
     })

@@ -34,7 +34,7 @@ def grid(u: np.ndarray, v: np.ndarray, lat: np.ndarray, lon: np.ndarray, *, dims
 
 
 def times(n: int, step_minutes: float = 60.0, start: str = "2031-06-01") -> np.ndarray:
-    step = np.timedelta64(int(round(step_minutes * 60)), "s")
+    step = np.timedelta64(round(step_minutes * 60), "s")
     return np.datetime64(start, "ns") + np.arange(n) * step
 
 
