@@ -34,6 +34,7 @@ __all__ = [
     "layer_thickness",
     "pressure_thickness",
     "pressure_thickness_above",
+    "shell_sums",
     "weighted_sum",
     "zone_area",
 ]
@@ -204,3 +205,112 @@ def weighted_sum(values, weights, *, ncore: int) -> np.ndarray:
         out = vals.reshape(-1, k) @ w.reshape(k)
         return out.reshape(loop).astype(np.float64, copy=False)
     return np.einsum("...k,...k->...", vals, w, dtype=np.float64)
+
+
+_KINDS = ("surface", "levels", "density", "column")
+
+
+def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
+               thickness=None, gravity: float = 1.0) -> np.ndarray:
+    """Mass-weighted sums over the levels and the grid, one pass over each level.
+
+    ``u`` and ``v`` have trailing axes (level, lat, lon), or (lat, lon) when
+    ``kind`` is ``"column"`` (either may be None when no weight uses it). The
+    mass per unit area of level k is:
+
+    - ``"surface"``: the pressure thickness of its ``bounds`` above the
+      surface pressure ``source`` (trailing (lat, lon)), over ``gravity``;
+    - ``"levels"``: ``thickness[k]`` (kg m-2, the same everywhere);
+    - ``"density"``: ``source[..., k, :, :] * thickness[k]`` (density times m);
+    - ``"column"``: ``source / gravity`` (one level: the whole column).
+
+    ``weights`` is a sequence of ``(field, w)`` with field ``"u"``, ``"v"`` or
+    ``"1"`` and ``w`` of shape (lat, lon) (cell area times a position factor):
+    each output is Σ field × mass per area × w, summed over the levels and,
+    for ``keep`` 0, 1, 2, over (lat, lon), lon only, or nothing. Where a
+    level weighs nothing (below the surface) its values are ignored, NaN or
+    not. Returns the sums on a trailing axis, one per weight, in float64.
+    Sums run in a fixed order (no threaded BLAS), so results do not depend
+    on the machine's thread count.
+
+    Examples
+    --------
+    >>> u = np.ones((2, 1, 2))  # 2 levels, 1 x 2 cells
+    >>> bounds = np.array([[np.inf, 500.0], [500.0, 0.0]])
+    >>> shell_sums(u, None, np.array([[800.0, 400.0]]), kind="surface", bounds=bounds,
+    ...            weights=[("u", np.ones((1, 2))), ("1", np.ones((1, 2)))]).tolist()
+    [1200.0, 1200.0]
+    """
+    if kind not in _KINDS:
+        raise ValueError(f"kind must be one of {_KINDS}")
+    fields = {"u": np.asarray(u), "v": np.asarray(v)}
+    used = [fields[f] for f, _ in weights if f != "1"]
+    if kind == "column":
+        fields = {k: x[..., None, :, :] if x.ndim >= 2 else x for k, x in fields.items()}
+        used = [x[..., None, :, :] for x in used]
+    source = None if source is None else np.asarray(source)
+    grid = used[0].shape if used else (*source.shape[:-2], 1, *source.shape[-2:])
+    nlev, horizontal = grid[-3], grid[-2:]
+    if kind == "levels" and not used:
+        nlev = len(thickness)
+    loop = np.broadcast_shapes(*(x.shape[:-3] for x in used),
+                               *(() if source is None else (source.shape[:-2],)))
+    if kind == "density":
+        loop = np.broadcast_shapes(loop, source.shape[:-3])
+    keep_sub = {0: "", 1: "j", 2: "ji"}[keep]
+    out = np.zeros((*loop, *{0: (), 1: horizontal[:1], 2: horizontal}[keep], len(weights)))
+    groups = {}  # one pass over each field and level for all of its weights
+    for field in dict.fromkeys(f for f, _ in weights):
+        index = [n for n, (f, _) in enumerate(weights) if f == field]
+        groups[field] = (index, [np.asarray(weights[n][1], dtype=np.float64) for n in index])
+    ps_low = None
+    if kind in ("surface", "column"):
+        ps = np.asarray(source, dtype=np.float64)
+        ps_low = float(np.nanmin(ps)) if ps.size else 0.0
+    for k in range(nlev):
+        if kind == "surface":
+            top, bottom = float(np.min(bounds[k])), float(np.max(bounds[k]))
+            if bottom <= ps_low:  # wholly above the surface everywhere: one number
+                mass = np.float64((bottom - top) / gravity)
+            else:
+                mass = np.clip(np.minimum(bottom, ps) - top, 0.0, None) / gravity
+        elif kind == "levels":
+            mass = np.float64(thickness[k])
+        elif kind == "density":
+            mass = np.asarray(source[..., k, :, :], dtype=np.float64) * thickness[k]
+        else:
+            mass = ps / gravity
+        for field, (index, stack) in groups.items():
+            if field == "1":
+                total = _mass_sum(mass, stack, keep_sub)
+            else:
+                values = fields[field][..., k, :, :]
+                total = _field_sum(values, mass, stack, keep_sub)
+                if kind == "surface" and np.ndim(mass) and np.isnan(total).any():
+                    values = np.where(mass == 0.0, 0.0, values)
+                    total = _field_sum(values, mass, stack, keep_sub)
+            out[..., index] += total
+    return out
+
+
+def _field_sum(values, mass, stack, keep_sub: str) -> np.ndarray:
+    scale = 1.0
+    if np.ndim(mass) == 0:
+        product, scale = values, float(mass)
+    else:
+        product = np.multiply(values, mass, dtype=np.float64)
+    sums = [np.einsum(f"...ji,ji->...{keep_sub}", product, w, dtype=np.float64) for w in stack]
+    return scale * np.stack(sums, axis=-1)
+
+
+def _mass_sum(mass, stack, keep_sub: str) -> np.ndarray:
+    if np.ndim(mass) == 0:
+        return float(mass) * np.stack([_reduce_core(w, len(keep_sub)) for w in stack], axis=-1)
+    sums = [np.einsum(f"...ji,ji->...{keep_sub}", mass, w, dtype=np.float64) for w in stack]
+    return np.stack(sums, axis=-1)
+
+
+def _reduce_core(x: np.ndarray, keep: int) -> np.ndarray:
+    if keep == 2:
+        return x
+    return x.sum(axis=(-1,) if keep == 1 else (-2, -1))

@@ -203,13 +203,13 @@ def integrate_angular_momentum(
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
     reduce = grid.reduce_dims(over)
-    lat = grid.lat
-    p = xr.DataArray(geodesy.axis_distance(np.deg2rad(lat.values), 0.0, grid.a, grid.f),
-                     dims=lat.dims)
-    relative = _reduce(vel.u, grid.mass * p, reduce)
-    frame_part = _reduce(grid.mass, float(frame.rotation_rate) * p * p, reduce)
-    mass = _reduce(grid.mass, xr.DataArray(1.0), reduce)
-    frame_part, mass, _ = xr.broadcast(frame_part, mass, relative)
+    p = geodesy.axis_distance(np.deg2rad(grid.lat.values), 0.0, grid.a, grid.f)[:, None]
+    sums = grid.sums(vel, {
+        "relative": ("u", grid.area * p),
+        "frame": ("1", float(frame.rotation_rate) * grid.area * p * p),
+        "mass": ("1", grid.area),
+    }, over)
+    relative, frame_part, mass = sums["relative"], sums["frame"], sums["mass"]
     base = {**common.frame_attrs(frame), "velocity_variables": f"{vel.eastward} {vel.northward}",
             "cell_methods": " ".join(f"{d}:" for d in reduce) + " sum" if reduce else "",
             "assumptions": grid.notes}
@@ -272,20 +272,20 @@ def excitation(
     frame = check_frame(frame)
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
-    reduce = grid.reduce_dims("global")
-    lat2, lon2 = xr.broadcast(grid.lat, grid.lon)
-    factors = {
-        name: xr.DataArray(values, dims=lat2.dims)
-        for name, values in integrals.equatorial_factors(
-            lat2.values, lon2.values, a=grid.a, f=grid.f).items()
-    }
+    lat2, lon2 = np.meshgrid(grid.lat.values, grid.lon.values, indexing="ij")
+    factors = integrals.equatorial_factors(lat2, lon2, a=grid.a, f=grid.f)
     omega = float(frame.rotation_rate)
-    m = grid.mass
-    h1 = _reduce(vel.u, m * factors["h1_u"], reduce) + _reduce(vel.v, m * factors["h1_v"], reduce)
-    h2 = _reduce(vel.u, m * factors["h2_u"], reduce) + _reduce(vel.v, m * factors["h2_v"], reduce)
-    p = factors["i33"] ** 0.5
-    h3 = _reduce(vel.u, m * p, reduce)
-    i13, i23, i33 = (_reduce(m, factors[n], reduce) for n in ("i13", "i23", "i33"))
+    area = grid.area
+    sums = grid.sums(vel, {
+        "h1_u": ("u", area * factors["h1_u"]), "h1_v": ("v", area * factors["h1_v"]),
+        "h2_u": ("u", area * factors["h2_u"]), "h2_v": ("v", area * factors["h2_v"]),
+        "h3": ("u", area * np.sqrt(factors["i33"])),
+        "i13": ("1", area * factors["i13"]), "i23": ("1", area * factors["i23"]),
+        "i33": ("1", area * factors["i33"]),
+    }, "global")
+    h1 = sums["h1_u"] + sums["h1_v"]
+    h2 = sums["h2_u"] + sums["h2_v"]
+    h3, i13, i23, i33 = sums["h3"], sums["i13"], sums["i23"], sums["i33"]
     terms = {
         "chi1_matter": k["matter12"] * i13 / k["c_minus_a"],
         "chi1_motion": k["motion12"] * h1 / (omega * k["c_minus_a"]),
@@ -294,7 +294,6 @@ def excitation(
         "chi3_matter": k["matter3"] * i33 / k["c_m"],
         "chi3_motion": k["motion3"] * h3 / (omega * k["c_m"]),
     }
-    terms = dict(zip(terms, xr.broadcast(*terms.values(), h3), strict=False))
     if anomalies:
         if grid.time_dim is None or grid.time_dim not in h3.dims:
             raise MissingInputError(
@@ -340,15 +339,52 @@ class _Grid:
                 f"gravity= must be a positive number in m s-2; found {gravity!r}",
                 variable="gravity", expected="> 0 m s-2", found=repr(gravity),
             )
-        area = xr.DataArray(self._areas(ds, vel), dims=(self.lat_dim, self.lon_dim))
+        self.area = self._areas(ds, vel)
         self.levels = common.find_levels(ds, dims, vertical)
-        per_area, self.notes = self._mass_per_area(ds, surface_pressure, density, gravity)
-        self.mass = per_area * area
+        self.gravity = float(gravity)
+        self.bounds = self.thickness = None
+        self.notes = self._mass_per_area(ds, surface_pressure, density)
 
     def reduce_dims(self, over: str) -> tuple[str, ...]:
         vertical = (self.levels.dim,) if self.levels is not None else ()
         return {"global": (*vertical, self.lat_dim, self.lon_dim),
                 "latitude": (*vertical, self.lon_dim), "column": vertical}[over]
+
+    def sums(self, vel, weights: dict[str, tuple[str, np.ndarray]], over: str) -> dict:
+        """Σ field × dm × w over the levels and (per ``over``) the grid, one DataArray each."""
+        horizontal = [self.lat_dim, self.lon_dim]
+        core = ([self.levels.dim] if self.levels is not None else []) + horizontal
+        keep = {"global": [], "latitude": [self.lat_dim], "column": horizontal}[over]
+        uses = {field for field, _ in weights.values()}
+        inputs = [(vel.u, core) if "u" in uses else None, (vel.v, core) if "v" in uses else None]
+        if self.kind in ("density", "surface", "column"):
+            inputs.append((self.source, core if self.kind == "density" else horizontal))
+        else:
+            inputs.append(None)
+        args, arg_dims, absent = [], [], []
+        for i, item in enumerate(inputs):
+            if item is None:
+                absent.append(i)
+                continue
+            arr, dims = item
+            for d in dims:
+                if d not in arr.dims:
+                    arr = arr.expand_dims({d: vel.u.sizes[d]})
+            if arr.chunks is not None:
+                arr = arr.chunk({d: -1 for d in dims})
+            args.append(arr)
+            arg_dims.append(dims)
+        names = list(weights)
+        stacked = apply_kernel(
+            _ShellSums(tuple(absent)), *args, input_core_dims=arg_dims,
+            output_core_dims=([*keep, "quantity"],), output_sizes={"quantity": len(names)},
+            kwargs={"kind": self.kind, "weights": [weights[n] for n in names],
+                    "keep": len(keep), "bounds": self.bounds, "thickness": self.thickness,
+                    "gravity": self.gravity},
+        )
+        loop = [d for d in vel.u.dims if d not in core]
+        return {n: stacked.isel(quantity=i).transpose(*loop, *keep)
+                for i, n in enumerate(names)}
 
     def _areas(self, ds, vel) -> np.ndarray:
         lat = self.lat.values
@@ -381,11 +417,13 @@ class _Grid:
             )
         return integrals.cell_areas(lat_b, widths, self.a, self.f)
 
-    def _mass_per_area(self, ds, surface_pressure, density, gravity):
+    def _mass_per_area(self, ds, surface_pressure, density) -> str:
+        """Set how each level's mass per unit area is made; return the note saying so."""
         lev = self.levels
         ps = None
         if surface_pressure is not None:
             ps = common.surface_pressure_in_pa(ds, surface_pressure)
+        self.source = None
         if lev is None:
             if density is not None:
                 raise MissingInputError(
@@ -400,7 +438,8 @@ class _Grid:
                     variable="surface_pressure", expected="surface pressure or levels",
                     found="neither",
                 )
-            return ps / gravity, "one level: the whole column (ps / g) moves with the velocity"
+            self.kind, self.source = "column", ps
+            return "one level: the whole column (ps / g) moves with the velocity"
         if lev.kind == "pressure":
             if density is not None:
                 raise ConventionError(
@@ -419,14 +458,11 @@ class _Grid:
             note = (f"layers of {lev.name!r} " + ("from its bounds" if lev.bounds is not None
                     else "half-way between levels, the top one reaching p = 0"))
             if ps is None:
-                thick = xr.DataArray(integrals.pressure_thickness(bounds), dims=(lev.dim,))
-            else:
-                note += "; cut at the surface pressure"
-                thick = apply_kernel(integrals.pressure_thickness_above, ps,
-                                     output_core_dims=((lev.dim,),),
-                                     output_sizes={lev.dim: lev.values.size},
-                                     kwargs={"bounds": bounds})
-            return thick / gravity, note
+                self.kind = "levels"
+                self.thickness = integrals.pressure_thickness(bounds) / self.gravity
+                return note
+            self.kind, self.source, self.bounds = "surface", ps, bounds
+            return note + "; cut at the surface pressure"
         if ps is not None:
             raise ConventionError(
                 f"surface_pressure= is for pressure levels or a single level; {lev.name!r} is "
@@ -446,27 +482,27 @@ class _Grid:
             if lev.positive_down:
                 edges = np.clip(edges, 0.0, None)
             bounds = np.stack([edges[:-1], edges[1:]], axis=1)
-        thick = xr.DataArray(integrals.layer_thickness(bounds), dims=(lev.dim,))
+        thickness = integrals.layer_thickness(bounds)
         rho = common.density_in_si(ds, density)
         note = f"layers of {lev.name!r} " + ("from its bounds" if lev.bounds is not None
                                                else "half-way between levels")
-        return rho * thick, note + "; mass = density x thickness"
+        if rho.ndim == 0:
+            self.kind, self.thickness = "levels", thickness * float(rho)
+        else:
+            self.kind, self.source, self.thickness = "density", rho, thickness
+        return note + "; mass = density x thickness"
 
 
-def _reduce(values: xr.DataArray, weights: xr.DataArray, dims: tuple[str, ...]) -> xr.DataArray:
-    """Σ values × weights over ``dims`` through the kernel (whole ``dims`` per block)."""
-    core = [d for d in dims if d in values.dims or d in weights.dims]
-    for d in core:
-        if d not in values.dims:
-            values = values.expand_dims({d: weights.sizes[d]})
-        if d not in weights.dims:
-            weights = weights.expand_dims({d: values.sizes[d]})
-    if values.chunks is not None:
-        values = values.chunk({d: -1 for d in core})
-    if weights.chunks is not None:
-        weights = weights.chunk({d: -1 for d in core})
-    return apply_kernel(integrals.weighted_sum, values, weights,
-                        input_core_dims=(core, core), kwargs={"ncore": len(core)})
+class _ShellSums:
+    """:func:`integrals.shell_sums` with the inputs at ``absent`` positions passed as None."""
+
+    def __init__(self, absent: tuple[int, ...]) -> None:
+        self.absent = absent
+
+    def __call__(self, *arrays, **kwargs):
+        it = iter(arrays)
+        full = [None if i in self.absent else next(it) for i in range(3)]
+        return integrals.shell_sums(*full, **kwargs)
 
 
 def _constants(constants: str | Mapping[str, float]) -> dict[str, float]:
