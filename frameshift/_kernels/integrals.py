@@ -253,10 +253,8 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     nlev, horizontal = grid[-3], grid[-2:]
     if kind == "levels" and not used:
         nlev = len(thickness)
-    loop = np.broadcast_shapes(*(x.shape[:-3] for x in used),
-                               *(() if source is None else (source.shape[:-2],)))
-    if kind == "density":
-        loop = np.broadcast_shapes(loop, source.shape[:-3])
+    source_loop = () if source is None else source.shape[:-3 if kind == "density" else -2]
+    loop = np.broadcast_shapes(*(x.shape[:-3] for x in used), source_loop)
     keep_sub = {0: "", 1: "j", 2: "ji"}[keep]
     out = np.zeros((*loop, *{0: (), 1: horizontal[:1], 2: horizontal}[keep], len(weights)))
     groups = {}  # one pass over each field and level for all of its weights

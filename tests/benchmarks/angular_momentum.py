@@ -1,4 +1,4 @@
-"""B7: the global angular-momentum series of a >= 2 GB wind archive, beside reading it once.
+"""B13: the global angular-momentum series of a >= 2 GB wind archive, beside reading it once.
 
 The archive (written first, in a temporary directory, by
 ``python -m tests.benchmarks.angular_momentum make PATH NTIME``) holds
@@ -123,13 +123,13 @@ def _cli_available() -> bool:
 
 def run(quick: bool) -> list[Row]:
     if not _cli_available():
-        return [not_available("B7", "angular-momentum archive", "no `frameshift momentum`",
+        return [not_available("B13", "angular-momentum archive", "no `frameshift momentum`",
                               TARGET)]
     ntime = 8 if quick else 100  # 0.18 GB or 2.2 GB
     repeats = 1 if quick else 3
     nbytes = ntime * (2 * np.prod(GRID) + np.prod(GRID[1:])) * 4
     if shutil.disk_usage(tempfile.gettempdir()).free < 2 * nbytes:
-        return [not_available("B7", "angular-momentum archive", "not enough free disk")]
+        return [not_available("B13", "angular-momentum archive", "not enough free disk")]
     tmp = Path(tempfile.mkdtemp(prefix="frameshift-b7-"))
     try:
         return _run(tmp, ntime, repeats)
@@ -176,16 +176,16 @@ def _run(tmp: Path, ntime: int, repeats: int) -> list[Row]:
                                                    "read all (xarray + Dask)"))):
         base = min(bases, key=lambda b: wall[b])
         ratio = wall[ours] / wall[base]
-        rows.append(Row("B7", f"CLI {ours} vs {base}", sizes, reps, ratio,
+        rows.append(Row("B13", f"CLI {ours} vs {base}", sizes, reps, ratio,
                         "wall time frameshift / one read", TARGET, verdict(ratio, at_most=1.3),
                         {ours: wall[ours], **{b: wall[b] for b in bases}},
                         extra={"runs (s)": ", ".join(f"{r['wall_s']:.1f}"
                                                      for r in results[ours])}))  # fmt: skip
     gb = max(peak["momentum"], peak["momentum --excitation"]) / 1e9
-    rows.append(Row("B7", "CLI momentum peak resident memory", sizes, reps, gb, "GB", "<= 1 GB",
+    rows.append(Row("B13", "CLI momentum peak resident memory", sizes, reps, gb, "GB", "<= 1 GB",
                     verdict(gb, at_most=1.0),
                     extra={k: f"{v / 1e6:.0f} MB" for k, v in peak.items()}))  # fmt: skip
-    rows.append(Row("B7", "local cluster (--workers 2) gives identical numbers", sizes, "1",
+    rows.append(Row("B13", "local cluster (--workers 2) gives identical numbers", sizes, "1",
                     worst, "max |difference| / max |value|", "0 (identical)",
                     "PASS" if identical else "MISS",
                     {"--workers 2": cluster["wall_s"],

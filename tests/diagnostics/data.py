@@ -68,3 +68,17 @@ def track(lat, lon, h, t, *, height_name: str = "height_above_reference_ellipsoi
                 "lat": (dims, lat, lat_attrs()), "lon": (dims, lon, lon_attrs())},
         attrs={"Conventions": "CF-1.11"},
     )
+
+
+def run_lazily(func, ds: xr.Dataset, layout: str, *args, computes: int = 0,
+               **kwargs) -> xr.Dataset:
+    """``func`` on eager or chunked ``ds``: chunked input must build without computing
+    (``computes`` allows reads of small metadata such as a chunked bounds variable).
+
+    Returns the computed result, so checks look at numbers either way.
+    """
+    from tests.helpers import as_layout, raise_if_dask_computes
+
+    with raise_if_dask_computes(computes):
+        out = func(as_layout(ds, layout), *args, **kwargs)
+    return out.compute()

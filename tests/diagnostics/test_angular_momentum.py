@@ -25,7 +25,7 @@ from frameshift import (
 )
 from frameshift._kernels import integrals
 from frameshift.diagnostics.angular_momentum import EXCITATION_CONSTANTS, STANDARD_GRAVITY
-from tests.diagnostics.data import CURRENT, grid, times
+from tests.diagnostics.data import CURRENT, grid, run_lazily, times
 from tests.helpers import (
     as_layout,
     assert_udunits,
@@ -77,18 +77,20 @@ def test_solid_body_superrotation_two_thirds_m_a_u(layout):
     xr.testing.assert_identical(ds, original)
 
 
-def test_single_level_column_and_latitude_bands_add_up():
+@eager_and_chunked
+def test_single_level_column_and_latitude_bands_add_up(layout):
     # One level with surface pressure is the whole column (ps / g): same analytic value.
     ds = superrotation(ntime=1).isel(time=0, plev=0, drop=True)
-    glob = frameshift.integrate_angular_momentum(ds, EARTH_SPHERE, surface_pressure="ps")
+    glob = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                      surface_pressure="ps")
     a = EARTH_SPHERE.equatorial_radius
     mass = 4 * np.pi * a**2 * 1.0e5 / STANDARD_GRAVITY  # analytic sphere area x ps / g
     np.testing.assert_allclose(float(glob.angular_momentum_relative), 2 / 3 * mass * a * 20.0,
                                rtol=5e-5)
-    bands = frameshift.integrate_angular_momentum(ds, EARTH_SPHERE, surface_pressure="ps",
-                                                  over="latitude")
-    cols = frameshift.integrate_angular_momentum(ds, EARTH_SPHERE, surface_pressure="ps",
-                                                 over="column")
+    bands = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                       surface_pressure="ps", over="latitude")
+    cols = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                      surface_pressure="ps", over="column")
     assert bands.angular_momentum_relative.dims == ("lat",)
     assert cols.angular_momentum_relative.dims == ("lat", "lon")
     np.testing.assert_allclose(float(bands.angular_momentum_relative.sum()),
@@ -96,7 +98,8 @@ def test_single_level_column_and_latitude_bands_add_up():
     np.testing.assert_allclose(float(cols.mass.sum()), float(glob.mass), rtol=1e-12)
 
 
-def test_levels_below_the_surface_weigh_nothing():
+@eager_and_chunked
+def test_levels_below_the_surface_weigh_nothing(layout):
     # Surface at 800 hPa: the 1000 hPa level (NaN, below ground) weighs nothing, the
     # 850 hPa layer keeps the 25 hPa above the surface; the column weighs ps / g (cells
     # reach half a spacing beyond the outer grid points).
@@ -106,8 +109,8 @@ def test_levels_below_the_surface_weigh_nothing():
     u[0] = np.nan
     ds = grid(u, 0 * u, lat, lon, dims=("plev", "lat", "lon"), coords={
         "plev": ("plev", plev, {"standard_name": "air_pressure", "units": "Pa", "axis": "Z"})})
-    out = frameshift.integrate_angular_momentum(ds, EARTH_SPHERE, surface_pressure=80000.0,
-                                                over="column")
+    out = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                     surface_pressure=80000.0, over="column")
     area = integrals.cell_areas(np.array([[-67.5, -22.5], [-22.5, 22.5], [22.5, 67.5]]),
                                 np.full(3, 120.0), EARTH_SPHERE.equatorial_radius, 0.0)
     np.testing.assert_allclose(out.mass.values, area * 80000.0 / STANDARD_GRAVITY, rtol=1e-12)
@@ -159,7 +162,8 @@ def test_per_unit_mass_values_and_retrograde_sign(layout):
     assert float(vout.angular_momentum_frame[0, 0]) < 0
 
 
-def test_density_on_depth_levels():
+@eager_and_chunked
+def test_density_on_depth_levels(layout):
     # Ocean shell 500 m deep (depth bounds 0-100-500 m), ρ = 1025 kg m-3: M = ρ H × area;
     # solid-body u = U cos φ gives (2/3) M a U (analytic, as above).
     depth = np.array([50.0, 300.0])
@@ -168,7 +172,15 @@ def test_density_on_depth_levels():
         "depth": ("depth", depth, {"standard_name": "depth", "units": "m", "positive": "down",
                                    "bounds": "depth_bnds"})})
     ds["depth_bnds"] = (("depth", "nv"), np.array([[0.0, 100.0], [100.0, 500.0]]))
-    out = frameshift.integrate_angular_momentum(ds, EARTH_SPHERE, density=1025.0)
+    # the bounds (a data variable, so chunked too) are read while the graph is built
+    reads = 1 if layout == "chunked" else 0
+    out = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                     density=1025.0, computes=reads)
+    # a density field gives the same (a variable with units, here in g cm-3)
+    ds["rho"] = (("depth", "lat", "lon"), np.full(u.shape, 1.025), {"units": "g cm-3"})
+    field = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
+                       density="rho", computes=reads)
+    np.testing.assert_allclose(float(field.mass), float(out.mass), rtol=1e-12)
     a = EARTH_SPHERE.equatorial_radius
     mass = 4 * np.pi * a**2 * 500.0 * 1025.0
     np.testing.assert_allclose(float(out.mass), mass, rtol=1e-12)
@@ -176,19 +188,21 @@ def test_density_on_depth_levels():
                                rtol=5e-5)
 
 
-def test_one_millisecond_of_length_of_day():
+@eager_and_chunked
+def test_one_millisecond_of_length_of_day(layout):
     # Barnes et al. (1983) constants: ΔLOD = χ3 × 86400 s with χ3 = h3 / (C_m Ω), so 1 ms
     # needs h3 = 1e-3 / 86400 × 7.04e37 × Ω ≈ 5.94e25 kg m2 s-1 (the reference values'
     # computed figure); Rosen & Salstein (1983, J. Geophys. Res. 88) give about
     # 1.68e-29 s of LOD per kg m2 s-1.
     ds = superrotation(ntime=1).isel(time=0, plev=0, drop=True)
-    out = frameshift.excitation(ds, EARTH_SPHERE, surface_pressure="ps")
+    out = run_lazily(frameshift.excitation, ds, layout, EARTH_SPHERE, surface_pressure="ps")
     h3 = float(out.angular_momentum_relative)
     lod_ms = float(out.chi3_motion) * 86400e3
     np.testing.assert_allclose(h3 / lod_ms, 5.94e25, rtol=1e-3)
     np.testing.assert_allclose(lod_ms * 1e-3 / h3, 1.68e-29, rtol=5e-3)
     k = EXCITATION_CONSTANTS["eubanks1993"]
-    eub = frameshift.excitation(ds, EARTH_SPHERE, surface_pressure="ps", constants="eubanks1993")
+    eub = run_lazily(frameshift.excitation, ds, layout, EARTH_SPHERE, surface_pressure="ps",
+                     constants="eubanks1993")
     np.testing.assert_allclose(float(eub.chi3_motion), 0.998 * h3 / (7.1236e37 * OMEGA),
                                rtol=1e-12)  # Eubanks (1993) factors as tabulated
     assert k["motion3"] == 0.998
@@ -236,7 +250,8 @@ def test_equatorial_terms_against_independent_vector_algebra(layout):
         np.testing.assert_allclose(float(out.chi1[i]), chi1, rtol=1e-9)
         np.testing.assert_allclose(float(out.chi2[i]), chi2, rtol=1e-9)
         np.testing.assert_allclose(float(out.angular_momentum_relative[i]), h[2], rtol=1e-9)
-    anomalies = frameshift.excitation(ds, EARTH, surface_pressure="ps", anomalies=True)
+    anomalies = run_lazily(frameshift.excitation, ds, layout, EARTH, surface_pressure="ps",
+                           anomalies=True)
     np.testing.assert_allclose(float(anomalies.chi3.mean()), 0.0, atol=1e-15)
 
 
@@ -259,8 +274,9 @@ def test_metadata(layout):
     assert results[0].angular_momentum_relative.attrs["cell_methods"] == "plev: lat: lon: sum"
 
 
-def test_refusals():
-    ds = superrotation(ntime=1)
+@eager_and_chunked
+def test_refusals(layout):
+    ds = as_layout(superrotation(ntime=1), layout)
     with pytest.raises(ConventionError, match="over="):
         frameshift.integrate_angular_momentum(ds, over="everywhere")
     with pytest.raises(ConventionError, match="density= is not used on pressure levels"):
@@ -270,7 +286,7 @@ def test_refusals():
     with pytest.raises(MissingInputError, match="surface_pressure="):
         frameshift.integrate_angular_momentum(ds.isel(plev=0, drop=True))
     with pytest.raises(UnsupportedInputError, match="latitude-longitude grid"):
-        frameshift.integrate_angular_momentum(station_dataset(), density=1025.0)
+        frameshift.integrate_angular_momentum(as_layout(station_dataset(), layout), density=1025.0)
     with pytest.raises(MissingInputError, match="'nothing'"):
         frameshift.integrate_angular_momentum(ds, surface_pressure="nothing")
     bad = ds.copy()
@@ -285,8 +301,9 @@ def test_refusals():
         frameshift.excitation(ds, surface_pressure="ps", constants={"c_m": 1.0})
 
 
-def test_accessor_delegates():
-    ds = superrotation(ntime=1)
+@eager_and_chunked
+def test_accessor_delegates(layout):
+    ds = as_layout(superrotation(ntime=1), layout)
     via = ds.frameshift.integrate_angular_momentum(surface_pressure="ps")
     direct = frameshift.integrate_angular_momentum(ds, surface_pressure="ps")
     xr.testing.assert_allclose(via.drop_attrs(), direct.drop_attrs())

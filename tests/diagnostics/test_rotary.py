@@ -13,7 +13,7 @@ import xarray as xr
 
 import frameshift
 from frameshift import ConventionError, UnsupportedInputError
-from tests.diagnostics.data import moorings, seconds, times
+from tests.diagnostics.data import moorings, run_lazily, seconds, times
 from tests.helpers import as_layout, assert_udunits, eager_and_chunked, raise_if_dask_computes
 
 OMEGA = 7.292115e-5  # rad s-1, IERS Conventions 2010 Table 1.1; WGS 84
@@ -32,10 +32,11 @@ def circles(lats, amplitude=0.25, n=1440, step=30.0, noise=0.0):
     return moorings(u, v, t, lats, [-35.0] * len(lats))
 
 
-def test_inertial_period_from_f():
+@eager_and_chunked
+def test_inertial_period_from_f(layout):
     # 2π / (2 Ω sin φ) with the WGS 84 rate: 23.93 h at 30°, 16.92 h at 45° (reference
     # values, computed; the relation as in the AMS Glossary, "inertial period").
-    out = frameshift.rotary_spectrum(circles([30.0, 45.0]))
+    out = run_lazily(frameshift.rotary_spectrum, circles([30.0, 45.0]), layout)
     np.testing.assert_allclose(out.inertial_period.values / 3600.0, [23.9345, 16.9242],
                                atol=5e-5)
     np.testing.assert_allclose(out.inertial_frequency.values,
@@ -66,24 +67,25 @@ def test_clockwise_circle_in_the_north(layout):
     assert out.frequency.attrs["units"] == "s-1"
 
 
-def test_gaps_refused_or_split():
+@eager_and_chunked
+def test_gaps_refused_or_split(layout):
     ds = circles(45.0)
     holed = ds.drop_isel(time=np.arange(600, 640))
     with pytest.raises(UnsupportedInputError, match="gaps='split'"):
-        frameshift.rotary_spectrum(holed)
-    split = frameshift.rotary_spectrum(holed, segment=240, gaps="split")
-    whole = frameshift.rotary_spectrum(ds, segment=240)
+        frameshift.rotary_spectrum(as_layout(holed, layout))
+    split = run_lazily(frameshift.rotary_spectrum, holed, layout, segment=240, gaps="split")
+    whole = run_lazily(frameshift.rotary_spectrum, ds, layout, segment=240)
     np.testing.assert_allclose(split.clockwise.values, whole.clockwise.values, rtol=0.05,
                                atol=1e-3 * float(whole.clockwise.max()))
     assert split.clockwise.attrs["gaps"] == "stretches between gaps used"
     missing = ds.copy(deep=True)
     missing["u"][100] = np.nan
     with pytest.raises(UnsupportedInputError, match="missing values"):
-        frameshift.rotary_spectrum(missing)
+        frameshift.rotary_spectrum(as_layout(missing, layout)).compute()  # found in the data
     uneven = ds.isel(time=slice(0, 50)).assign_coords(
         time=ds.time.values[:50] + (np.arange(50) % 2) * np.timedelta64(7, "s"))
     with pytest.raises(UnsupportedInputError, match="resample"):
-        frameshift.rotary_spectrum(uneven, gaps="split")
+        frameshift.rotary_spectrum(as_layout(uneven, layout), gaps="split")
 
 
 @eager_and_chunked
@@ -107,15 +109,16 @@ def test_demodulation_recovers_amplitude_and_phase(layout):
     assert out.inertial_phase.attrs["units"] == "radian"
 
 
-def test_demodulation_refusals_and_window():
-    ds = circles(0.0, n=200)
+@eager_and_chunked
+def test_demodulation_refusals_and_window(layout):
+    ds = as_layout(circles(0.0, n=200), layout)
     with pytest.raises(UnsupportedInputError, match="equator"):
-        frameshift.inertial_demodulation(ds).compute()
-    ds = circles(45.0, n=200)
+        frameshift.inertial_demodulation(ds).compute()  # f comes with the data
+    ds = as_layout(circles(45.0, n=200), layout)
     with pytest.raises(ConventionError, match="window="):
         frameshift.inertial_demodulation(ds, window="a while")
     with pytest.raises(UnsupportedInputError, match="does not fit"):
-        frameshift.inertial_demodulation(ds, window=5000)
+        frameshift.inertial_demodulation(ds, window=5000).compute()
     out = frameshift.inertial_demodulation(ds, window="12h")
     assert "25 samples" in out.inertial_amplitude.attrs["demodulation"]
     moving = ds.assign_coords(lat=("time", np.linspace(40, 41, 200), ds.lat.attrs))
@@ -125,8 +128,9 @@ def test_demodulation_refusals_and_window():
         frameshift.rotary_spectrum(ds, band=(1.1, 0.9))
 
 
-def test_accessor_delegates():
-    ds = circles(45.0, n=400)
+@eager_and_chunked
+def test_accessor_delegates(layout):
+    ds = as_layout(circles(45.0, n=400), layout)
     xr.testing.assert_allclose(ds.frameshift.rotary_spectrum().drop_attrs(),
                                frameshift.rotary_spectrum(ds).drop_attrs())
     xr.testing.assert_allclose(ds.frameshift.inertial_demodulation().drop_attrs(),

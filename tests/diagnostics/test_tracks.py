@@ -18,7 +18,7 @@ from scipy.integrate import solve_ivp
 import frameshift
 from frameshift import EARTH, MissingInputError, UnsupportedInputError
 from frameshift._kernels.tracks import differentiate
-from tests.diagnostics.data import times, track
+from tests.diagnostics.data import run_lazily, times, track
 from tests.helpers import as_layout, assert_udunits, eager_and_chunked, raise_if_dask_computes
 
 OMEGA = 7.292115e-5  # rad s-1, IERS Conventions 2010 Table 1.1; WGS 84
@@ -61,12 +61,13 @@ def test_free_track_has_no_real_force(layout):
     xr.testing.assert_identical(ds, original)
 
 
-def test_second_order_differencing():
+@eager_and_chunked
+def test_second_order_differencing(layout):
     # Stated order: halving the time step divides the residual by about 4.
     errors = []
     for step in (240.0, 120.0):
         t, lat, lon, h = inertial_line(step, int(7200 / step) + 1)
-        out = frameshift.track_forces(track(lat, lon, h, t))
+        out = run_lazily(frameshift.track_forces, track(lat, lon, h, t), layout)
         errors.append(max(float(np.abs(out[f"force_{c}"]).max())
                           for c in ("eastward", "northward", "upward")))
     assert 3.3 < errors[0] / errors[1] < 4.7
@@ -77,7 +78,8 @@ def test_second_order_differencing():
     np.testing.assert_allclose(d2, 6.0, rtol=1e-10)
 
 
-def test_known_eastward_force_comes_back():
+@eager_and_chunked
+def test_known_eastward_force_comes_back(layout):
     # Integrate dV/dt = F ê - 2Ω × V - Ω × (Ω × X) in Earth-fixed axes (Newton's second
     # law in a steadily rotating frame) with F = 2e-3 m s-2 along the local east; the
     # track's residual force is F eastward and nothing else.
@@ -97,30 +99,33 @@ def test_known_eastward_force_comes_back():
     sol = solve_ivp(rhs, (0, s[-1]), np.concatenate([x0, [5.0, 3.0, 0.0]]), t_eval=s,
                     rtol=1e-12, atol=1e-9, method="DOP853")
     lon, lat, h = TO_GEODETIC.transform(*sol.y[:3])
-    out = frameshift.track_forces(track(lat, lon, h, t))
+    out = run_lazily(frameshift.track_forces, track(lat, lon, h, t), layout)
     np.testing.assert_allclose(out.force_eastward.values, force, atol=2e-7)
     assert float(np.abs(out.force_northward).max()) < 2e-7
     assert float(np.abs(out.force_upward).max()) < 2e-7
 
 
-def test_at_rest_the_support_balances_normal_gravity():
+@eager_and_chunked
+def test_at_rest_the_support_balances_normal_gravity(layout):
     # At rest on the WGS 84 ellipsoid at the equator, the real force beyond the attraction
     # of the normal body is the support: normal gravity upward, γe = 9.7803253359 m s-2
     # (NIMA TR8350.2, Somigliana); none along the ground.
     t = times(8, 60.0)
     zeros = np.zeros(8)
-    out = frameshift.track_forces(track(zeros, zeros + 30.0, zeros, t), EARTH)
+    out = run_lazily(frameshift.track_forces, track(zeros, zeros + 30.0, zeros, t), layout, EARTH)
     np.testing.assert_allclose(out.force_beyond_gravitation_upward.values, 9.7803253359,
                                rtol=1e-9)
     assert float(np.abs(out.force_beyond_gravitation_northward).max()) < 1e-9
     np.testing.assert_allclose(out.velocity_eastward.values, 0.0, atol=1e-9)
 
 
-def test_heights_and_refusals():
+@eager_and_chunked
+def test_heights_and_refusals(layout):
     t, lat, lon, h = inertial_line(60.0, 20)
     ds = track(lat, lon, -h, t, height_name="depth")
     ds["z"].attrs["positive"] = "down"
-    out = frameshift.track_forces(ds)
+    out = run_lazily(frameshift.track_forces, ds, layout)
+    ds = as_layout(ds, layout)
     assert "height from 'z'" in out.force_upward.attrs["assumptions"]
     with pytest.raises(UnsupportedInputError, match="at least 4"):
         frameshift.track_forces(ds.isel(time=slice(0, 3)))

@@ -8,7 +8,7 @@ import xarray as xr
 
 import frameshift
 from frameshift import EARTH, EARTH_SPHERE, UnsupportedInputError
-from tests.diagnostics.data import CURRENT, grid, times
+from tests.diagnostics.data import CURRENT, grid, run_lazily, times
 from tests.helpers import (
     as_layout,
     assert_udunits,
@@ -62,18 +62,21 @@ def test_solid_body_rotation_has_vorticity_two_omega_sin_lat(layout, frame):
     xr.testing.assert_identical(ds, original)
 
 
-def test_pole_rule_is_the_mean_over_the_cap():
+@eager_and_chunked
+def test_pole_rule_is_the_mean_over_the_cap(layout):
     # Stokes' theorem: the circulation round the ring at φ1 over the cap area is the mean
     # vorticity of the cap, ∫ 2Ω sin φ dA / A = Ω (1 + sin φ1) on the sphere (analytic).
     lat = np.arange(-90.0, 90.5, 2.0)
     lon = np.arange(0.0, 360.0, 5.0)
-    out = frameshift.absolute_vorticity(solid_body(EARTH_SPHERE, lat, lon, 1), EARTH_SPHERE)
+    out = run_lazily(frameshift.absolute_vorticity, solid_body(EARTH_SPHERE, lat, lon, 1), layout,
+                     EARTH_SPHERE)
     mean = OMEGA * (1 + np.sin(np.deg2rad(88.0)))
     np.testing.assert_allclose(out.relative_vorticity.values[0, -1], mean, rtol=1e-12)
     np.testing.assert_allclose(out.relative_vorticity.values[0, 0], -mean, rtol=1e-12)
 
 
-def test_meridional_flow_and_open_longitudes():
+@eager_and_chunked
+def test_meridional_flow_and_open_longitudes(layout):
     # Analytic on the sphere: v = V cos λ, u = 0 gives ζ = -V sin λ / (a cos φ); centred
     # differences of cos λ lose sin(h)/h ≈ 1 - h²/6. A regional grid (open longitude
     # edges) uses second-order one-sided differences there (exact for v linear in λ).
@@ -82,26 +85,28 @@ def test_meridional_flow_and_open_longitudes():
     a = EARTH_SPHERE.equatorial_radius
     v = 3.0 * np.cos(np.deg2rad(lon))[None, :] * np.ones((lat.size, 1))
     ds = grid(0 * v, v, lat, lon, family=CURRENT)
-    out = frameshift.absolute_vorticity(ds, EARTH_SPHERE)
+    out = run_lazily(frameshift.absolute_vorticity, ds, layout, EARTH_SPHERE)
     expected = -3.0 * np.sin(np.deg2rad(lon))[None, :] / (a * np.cos(np.deg2rad(lat)))[:, None]
     np.testing.assert_allclose(out.relative_vorticity.values, expected,
                                rtol=STEP**2 / 6 * 1.1, atol=1e-16)
     region = lon[(lon >= 10) & (lon <= 40)]
     lin = 0.01 * region[None, :] * np.ones((lat.size, 1))
-    rout = frameshift.absolute_vorticity(grid(0 * lin, lin, lat, region, family=CURRENT),
-                                         EARTH_SPHERE)
+    rout = run_lazily(frameshift.absolute_vorticity, grid(0 * lin, lin, lat, region,
+                                                          family=CURRENT), layout, EARTH_SPHERE)
     slope = 0.01 / np.deg2rad(1.0) / (a * np.cos(np.deg2rad(lat)))
     np.testing.assert_allclose(rout.relative_vorticity.values,
                                np.broadcast_to(slope[:, None], lin.shape), rtol=1e-9)
     assert "open longitude edges" in rout.relative_vorticity.attrs["assumptions"]
 
 
-def test_standard_names_by_family():
+@eager_and_chunked
+def test_standard_names_by_family(layout):
     lat = np.arange(-10.0, 11.0, 5.0)
     lon = np.arange(0.0, 360.0, 30.0)
     ones = np.ones((lat.size, lon.size))
-    wind = frameshift.absolute_vorticity(grid(ones, ones, lat, lon))
-    sea = frameshift.absolute_vorticity(grid(ones, ones, lat, lon, family=CURRENT))
+    wind = run_lazily(frameshift.absolute_vorticity, grid(ones, ones, lat, lon), layout)
+    sea = run_lazily(frameshift.absolute_vorticity, grid(ones, ones, lat, lon, family=CURRENT),
+                     layout)
     # CF standard name table v93 (compliance-checker's copy)
     assert wind.relative_vorticity.attrs["standard_name"] == "atmosphere_upward_relative_vorticity"
     assert wind.absolute_vorticity.attrs["standard_name"] == "atmosphere_upward_absolute_vorticity"
@@ -114,9 +119,10 @@ def test_standard_names_by_family():
                 assert var.attrs["standard_name"] in cf_standard_names()
 
 
-def test_refusals():
+@eager_and_chunked
+def test_refusals(layout):
     with pytest.raises(UnsupportedInputError, match="latitude-longitude grid"):
-        frameshift.absolute_vorticity(station_dataset())
+        frameshift.absolute_vorticity(as_layout(station_dataset(), layout))
     lat, lon = np.array([0.0, 1.0]), np.array([0.0, 1.0, 2.0])
     with pytest.raises(UnsupportedInputError, match="at least 3"):
         frameshift.absolute_vorticity(grid(np.ones((2, 3)), np.ones((2, 3)), lat, lon))
@@ -125,9 +131,11 @@ def test_refusals():
         frameshift.absolute_vorticity(ds)
 
 
-def test_accessor_delegates():
+@eager_and_chunked
+def test_accessor_delegates(layout):
     lat = np.arange(-10.0, 11.0, 5.0)
     lon = np.arange(0.0, 360.0, 30.0)
     ds = grid(np.ones((lat.size, lon.size)), np.zeros((lat.size, lon.size)), lat, lon)
+    ds = as_layout(ds, layout)
     xr.testing.assert_allclose(ds.frameshift.absolute_vorticity().drop_attrs(),
                                frameshift.absolute_vorticity(ds).drop_attrs())
