@@ -28,6 +28,7 @@ from frameshift._kernels import geodesy
 
 __all__ = [
     "axial_momentum",
+    "cell_area_factors",
     "cell_areas",
     "cell_edges",
     "equatorial_factors",
@@ -59,15 +60,22 @@ def axial_momentum(lat_deg, h, u, omega: float, *, a: float, f: float):
     return np.asarray(relative, dtype=np.float64), np.array(frame, dtype=np.float64)
 
 
-def equatorial_factors(lat_deg, lon_deg, *, a: float, f: float) -> dict[str, np.ndarray]:
-    """Position factors of the equatorial angular momentum on the ellipsoid surface.
+def equatorial_factors(lat_deg, lon_deg, *, a: float, f: float) -> dict:
+    """Position factors of the angular momentum on the ellipsoid surface, as (lat, lon) pairs.
 
     With r = (x, y, z) the body-fixed position and v = u ê + v n̂, the
     relative angular momentum per unit mass r × v has the components
-    ``h1 = -z cos λ u + q sin λ v`` and ``h2 = -z sin λ u - q cos λ v`` with
-    ``q = p cos φ + z sin φ``; the matter terms use the products of inertia
-    ``-x z`` and ``-y z`` and the axial moment ``x² + y²`` per unit mass.
-    Returns those factors (broadcast over latitude and longitude).
+    ``h1 = -z cos λ u + q sin λ v``, ``h2 = -z sin λ u - q cos λ v`` and
+    ``h3 = p u`` with ``q = p cos φ + z sin φ``; the matter terms use the
+    products of inertia ``-x z``, ``-y z`` and the axial moment ``x² + y²``
+    per unit mass. Each factor is a product of a function of latitude and one
+    of longitude: returned as ``{name: (of_latitude, of_longitude)}``.
+
+    Examples
+    --------
+    >>> fac = equatorial_factors(np.array([0.0]), np.array([0.0, 90.0]), a=1.0, f=0.0)
+    >>> fac["h1_v"][0].tolist(), fac["h1_v"][1].round(12).tolist()  # q = a on a sphere
+    ([1.0], [0.0, 1.0])
     """
     lat = np.deg2rad(np.asarray(lat_deg, dtype=np.float64))
     lon = np.deg2rad(np.asarray(lon_deg, dtype=np.float64))
@@ -78,15 +86,12 @@ def equatorial_factors(lat_deg, lon_deg, *, a: float, f: float) -> dict[str, np.
     z = n * (1.0 - e2) * sin_lat
     q = p * cos_lat + z * sin_lat
     cos_lon, sin_lon = np.cos(lon), np.sin(lon)
-    x, y = p * cos_lon, p * sin_lon
+    ones = np.ones_like(lon)
     return {
-        "h1_u": -z * cos_lon,
-        "h1_v": q * sin_lon,
-        "h2_u": -z * sin_lon,
-        "h2_v": -q * cos_lon,
-        "i13": -x * z,
-        "i23": -y * z,
-        "i33": p * p + 0.0 * lon,
+        "h1_u": (-z, cos_lon), "h1_v": (q, sin_lon),
+        "h2_u": (-z, sin_lon), "h2_v": (-q, cos_lon),
+        "h3": (p, ones),
+        "i13": (-p * z, cos_lon), "i23": (-p * z, sin_lon), "i33": (p * p, ones),
     }
 
 
@@ -130,15 +135,25 @@ def cell_edges(centres: np.ndarray, lower: float | None = None, upper: float | N
     return edges
 
 
+def cell_area_factors(lat_bounds_deg, lon_widths_deg, a: float, f: float):
+    """Cell areas as ``(per_latitude, per_longitude)``: zone area per radian (m2), width (rad).
+
+    ``lat_bounds_deg`` has shape ``(nlat, 2)`` (either order), ``lon_widths_deg``
+    shape ``(nlon,)``; the area of cell (j, i) is their product.
+    """
+    bounds = np.deg2rad(np.asarray(lat_bounds_deg, dtype=np.float64))
+    zone = np.abs(zone_area(bounds[:, 1], a, f) - zone_area(bounds[:, 0], a, f))
+    return zone, np.deg2rad(np.abs(np.asarray(lon_widths_deg, dtype=np.float64)))
+
+
 def cell_areas(lat_bounds_deg: np.ndarray, lon_widths_deg: np.ndarray, a: float, f: float):
     """Areas (m2) of latitude-longitude cells on the ellipsoid, shape ``(nlat, nlon)``.
 
     ``lat_bounds_deg`` has shape ``(nlat, 2)`` (either order), ``lon_widths_deg``
     shape ``(nlon,)``.
     """
-    bounds = np.deg2rad(np.asarray(lat_bounds_deg, dtype=np.float64))
-    zone = np.abs(zone_area(bounds[:, 1], a, f) - zone_area(bounds[:, 0], a, f))
-    return zone[:, None] * np.deg2rad(np.abs(np.asarray(lon_widths_deg, dtype=np.float64)))
+    zone, width = cell_area_factors(lat_bounds_deg, lon_widths_deg, a, f)
+    return zone[:, None] * width
 
 
 def pressure_thickness(bounds: np.ndarray) -> np.ndarray:
@@ -224,8 +239,8 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     - ``"density"``: ``source[..., k, :, :] * thickness[k]`` (density times m);
     - ``"column"``: ``source / gravity`` (one level: the whole column).
 
-    ``weights`` is a sequence of ``(field, w)`` with field ``"u"``, ``"v"`` or
-    ``"1"`` and ``w`` of shape (lat, lon) (cell area times a position factor):
+    ``weights`` is a sequence of ``(field, of_lat, of_lon)`` with field ``"u"``,
+    ``"v"`` or ``"1"`` and w = of_lat ⊗ of_lon (cell area times a position factor):
     each output is Σ field × mass per area × w, summed over the levels and,
     for ``keep`` 0, 1, 2, over (lat, lon), lon only, or nothing. Where a
     level weighs nothing (below the surface) its values are ignored, NaN or
@@ -238,13 +253,13 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     >>> u = np.ones((2, 1, 2))  # 2 levels, 1 x 2 cells
     >>> bounds = np.array([[np.inf, 500.0], [500.0, 0.0]])
     >>> shell_sums(u, None, np.array([[800.0, 400.0]]), kind="surface", bounds=bounds,
-    ...            weights=[("u", np.ones((1, 2))), ("1", np.ones((1, 2)))]).tolist()
+    ...            weights=[("u", np.ones(1), np.ones(2)), ("1", np.ones(1), np.ones(2))]).tolist()
     [1200.0, 1200.0]
     """
     if kind not in _KINDS:
         raise ValueError(f"kind must be one of {_KINDS}")
     fields = {"u": np.asarray(u), "v": np.asarray(v)}
-    used = [fields[f] for f, _ in weights if f != "1"]
+    used = [fields[w[0]] for w in weights if w[0] != "1"]
     if kind == "column":
         fields = {k: x[..., None, :, :] if x.ndim >= 2 else x for k, x in fields.items()}
         used = [x[..., None, :, :] for x in used]
@@ -258,9 +273,11 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     keep_sub = {0: "", 1: "j", 2: "ji"}[keep]
     out = np.zeros((*loop, *{0: (), 1: horizontal[:1], 2: horizontal}[keep], len(weights)))
     groups = {}  # one pass over each field and level for all of its weights
-    for field in dict.fromkeys(f for f, _ in weights):
-        index = [n for n, (f, _) in enumerate(weights) if f == field]
-        groups[field] = (index, [np.asarray(weights[n][1], dtype=np.float64) for n in index])
+    for field in dict.fromkeys(w[0] for w in weights):
+        index = [n for n, w in enumerate(weights) if w[0] == field]
+        groups[field] = (index, [np.multiply.outer(np.asarray(weights[n][1], dtype=np.float64),
+                                                   np.asarray(weights[n][2], dtype=np.float64))
+                                 for n in index])
     ps_low = None
     if kind in ("surface", "column"):
         ps = np.asarray(source, dtype=np.float64)

@@ -203,29 +203,18 @@ def integrate_angular_momentum(
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
     reduce = grid.reduce_dims(over)
-    p = geodesy.axis_distance(np.deg2rad(grid.lat.values), 0.0, grid.a, grid.f)[:, None]
+    p = geodesy.axis_distance(np.deg2rad(grid.lat.values), 0.0, grid.a, grid.f)
     sums = grid.sums(vel, {
-        "relative": ("u", grid.area * p),
-        "frame": ("1", float(frame.rotation_rate) * grid.area * p * p),
-        "mass": ("1", grid.area),
+        "relative": ("u", grid.zone * p, grid.width),
+        "frame": ("1", float(frame.rotation_rate) * grid.zone * p * p, grid.width),
+        "mass": ("1", grid.zone, grid.width),
     }, over)
     relative, frame_part, mass = sums["relative"], sums["frame"], sums["mass"]
     base = {**common.frame_attrs(frame), "velocity_variables": f"{vel.eastward} {vel.northward}",
             "cell_methods": " ".join(f"{d}:" for d in reduce) + " sum" if reduce else "",
             "assumptions": grid.notes}
     base = {k: v for k, v in base.items() if v}
-    out = xr.Dataset({
-        "angular_momentum_relative": relative.assign_attrs(
-            long_name="axial angular momentum relative to the rotating body", units=_MOMENTUM_UNITS,
-            **base),
-        "angular_momentum_frame": frame_part.assign_attrs(
-            long_name="axial angular momentum of the body's rotation carried by the fluid",
-            units=_MOMENTUM_UNITS, **base),
-        "angular_momentum_absolute": (relative + frame_part).assign_attrs(
-            long_name="absolute axial angular momentum", units=_MOMENTUM_UNITS, **base),
-        "mass": mass.assign_attrs(long_name="mass of the fluid integrated over", units="kg",
-                                  **base),
-    })
+    out = xr.Dataset(_momentum_variables(relative, frame_part, mass, base))
     out = out.assign_coords(_coords_on(ds, out.dims))
     return common.finish(out, ds, f"angular momentum integrated over: {over} ({frame.name})")
 
@@ -241,6 +230,7 @@ def excitation(
     vertical: str | None = None,
     gravity: float = STANDARD_GRAVITY,
     anomalies: bool = False,
+    include_integrals: bool = False,
 ) -> xr.Dataset:
     """Excitation functions χ1, χ2, χ3 of Earth rotation and the length-of-day change.
 
@@ -258,7 +248,10 @@ def excitation(
 
     The matter terms are of the whole mass given: differences between times
     (or ``anomalies=True``, which subtracts the time mean of every term) are
-    what excites changes of rotation.
+    what excites changes of rotation. The result also holds the axial
+    ``angular_momentum_relative`` h3; ``include_integrals=True`` adds the rest
+    of :func:`integrate_angular_momentum`'s global output (frame part,
+    absolute, mass) from the same pass over the data.
 
     Examples
     --------
@@ -272,17 +265,16 @@ def excitation(
     frame = check_frame(frame)
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
-    lat2, lon2 = np.meshgrid(grid.lat.values, grid.lon.values, indexing="ij")
-    factors = integrals.equatorial_factors(lat2, lon2, a=grid.a, f=grid.f)
+    factors = integrals.equatorial_factors(grid.lat.values, grid.lon.values, a=grid.a, f=grid.f)
     omega = float(frame.rotation_rate)
-    area = grid.area
-    sums = grid.sums(vel, {
-        "h1_u": ("u", area * factors["h1_u"]), "h1_v": ("v", area * factors["h1_v"]),
-        "h2_u": ("u", area * factors["h2_u"]), "h2_v": ("v", area * factors["h2_v"]),
-        "h3": ("u", area * np.sqrt(factors["i33"])),
-        "i13": ("1", area * factors["i13"]), "i23": ("1", area * factors["i23"]),
-        "i33": ("1", area * factors["i33"]),
-    }, "global")
+    fields = {"h1_u": "u", "h1_v": "v", "h2_u": "u", "h2_v": "v", "h3": "u",
+              "i13": "1", "i23": "1", "i33": "1"}
+    weights = {n: (field, grid.zone * factors[n][0], grid.width * factors[n][1])
+               for n, field in fields.items()}
+    if include_integrals:
+        weights["frame"] = ("1", omega * grid.zone * factors["i33"][0], grid.width)
+        weights["mass"] = ("1", grid.zone, grid.width)
+    sums = grid.sums(vel, weights, "global")
     h1 = sums["h1_u"] + sums["h1_v"]
     h2 = sums["h2_u"] + sums["h2_v"]
     h3, i13, i23, i33 = sums["h3"], sums["i13"], sums["i23"], sums["i33"]
@@ -313,9 +305,14 @@ def excitation(
             long_name=f"excitation function chi{axis} (matter + motion)", units="1", **base)
     out["length_of_day_change"] = (out["chi3"] * DAY * 1e3).assign_attrs(
         long_name="change of the length of day excited (chi3 x 86400 s)", units="ms", **base)
-    out["angular_momentum_relative"] = h3.assign_attrs(
-        long_name="axial angular momentum relative to the rotating body", units=_MOMENTUM_UNITS,
-        **base)
+    if include_integrals:
+        cells = {**base, "cell_methods": " ".join(f"{d}:" for d in grid.reduce_dims("global"))
+                 + " sum"}
+        out.update(_momentum_variables(h3, sums["frame"], sums["mass"], cells))
+    else:
+        out["angular_momentum_relative"] = h3.assign_attrs(
+            long_name="axial angular momentum relative to the rotating body",
+            units=_MOMENTUM_UNITS, **base)
     result = xr.Dataset(out)
     result = result.assign_coords(_coords_on(ds, result.dims))
     return common.finish(result, ds, f"excitation functions ({label}; {frame.name})")
@@ -339,7 +336,7 @@ class _Grid:
                 f"gravity= must be a positive number in m s-2; found {gravity!r}",
                 variable="gravity", expected="> 0 m s-2", found=repr(gravity),
             )
-        self.area = self._areas(ds, vel)
+        self.zone, self.width = self._areas(ds, vel)
         self.levels = common.find_levels(ds, dims, vertical)
         self.gravity = float(gravity)
         self.bounds = self.thickness = None
@@ -350,12 +347,12 @@ class _Grid:
         return {"global": (*vertical, self.lat_dim, self.lon_dim),
                 "latitude": (*vertical, self.lon_dim), "column": vertical}[over]
 
-    def sums(self, vel, weights: dict[str, tuple[str, np.ndarray]], over: str) -> dict:
+    def sums(self, vel, weights: dict[str, tuple], over: str) -> dict:
         """Σ field × dm × w over the levels and (per ``over``) the grid, one DataArray each."""
         horizontal = [self.lat_dim, self.lon_dim]
         core = ([self.levels.dim] if self.levels is not None else []) + horizontal
         keep = {"global": [], "latitude": [self.lat_dim], "column": horizontal}[over]
-        uses = {field for field, _ in weights.values()}
+        uses = {w[0] for w in weights.values()}
         inputs = [(vel.u, core) if "u" in uses else None, (vel.v, core) if "v" in uses else None]
         if self.kind in ("density", "surface", "column"):
             inputs.append((self.source, core if self.kind == "density" else horizontal))
@@ -415,7 +412,7 @@ class _Grid:
                 "more than once around; drop the repeated column",
                 variable=vel.longitude, expected="at most 360 degrees", found="more",
             )
-        return integrals.cell_areas(lat_b, widths, self.a, self.f)
+        return integrals.cell_area_factors(lat_b, widths, self.a, self.f)
 
     def _mass_per_area(self, ds, surface_pressure, density) -> str:
         """Set how each level's mass per unit area is made; return the note saying so."""
@@ -503,6 +500,21 @@ class _ShellSums:
         it = iter(arrays)
         full = [None if i in self.absent else next(it) for i in range(3)]
         return integrals.shell_sums(*full, **kwargs)
+
+
+def _momentum_variables(relative, frame_part, mass, base: dict) -> dict[str, xr.DataArray]:
+    return {
+        "angular_momentum_relative": relative.assign_attrs(
+            long_name="axial angular momentum relative to the rotating body", units=_MOMENTUM_UNITS,
+            **base),
+        "angular_momentum_frame": frame_part.assign_attrs(
+            long_name="axial angular momentum of the body's rotation carried by the fluid",
+            units=_MOMENTUM_UNITS, **base),
+        "angular_momentum_absolute": (relative + frame_part).assign_attrs(
+            long_name="absolute axial angular momentum", units=_MOMENTUM_UNITS, **base),
+        "mass": mass.assign_attrs(long_name="mass of the fluid integrated over", units="kg",
+                                  **base),
+    }
 
 
 def _constants(constants: str | Mapping[str, float]) -> dict[str, float]:

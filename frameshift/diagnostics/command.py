@@ -70,12 +70,9 @@ def apply_momentum(ds: xr.Dataset, settings: Mapping[str, object]) -> xr.Dataset
     s = dict(settings)
     common = {"surface_pressure": s["surface_pressure"], "density": s["density"],
               "vertical": s["vertical"], "velocity": s["velocity"]}
-    result = integrate_angular_momentum(ds, over=s["over"], **common)
-    if s["excitation"]:
-        chi = excitation(ds, constants=s["constants"], **common)
-        result = result.merge(chi.drop_vars("angular_momentum_relative"),
-                              combine_attrs="override")
-    return result
+    if s["excitation"]:  # one pass over the data for the integrals and the excitation
+        return excitation(ds, constants=s["constants"], include_integrals=True, **common)
+    return integrate_angular_momentum(ds, over=s["over"], **common)
 
 
 def _number_or_name(text: str | None) -> float | str | None:

@@ -42,6 +42,8 @@ def test_momentum_command_writes_the_series(tmp_path, capsys):
                                    direct.angular_momentum_relative.values, rtol=1e-12)
         np.testing.assert_allclose(out.length_of_day_change.values,
                                    chi.length_of_day_change.values, rtol=1e-12)
+        for name in ("angular_momentum_frame", "angular_momentum_absolute", "mass"):
+            np.testing.assert_allclose(out[name].values, direct[name].values, rtol=1e-12)
         assert "ua" not in out and "u" not in out  # the winds are not copied along
         assert "frameshift momentum" in out.attrs["history"]
         assert out.length_of_day_change.attrs["units"] == "ms"
