@@ -130,7 +130,7 @@ def run(quick: bool) -> list[Row]:
     nbytes = ntime * (2 * np.prod(GRID) + np.prod(GRID[1:])) * 4
     if shutil.disk_usage(tempfile.gettempdir()).free < 2 * nbytes:
         return [not_available("B13", "angular-momentum archive", "not enough free disk")]
-    tmp = Path(tempfile.mkdtemp(prefix="frameshift-b7-"))
+    tmp = Path(tempfile.mkdtemp(prefix="frameshift-b13-"))
     try:
         return _run(tmp, ntime, repeats)
     finally:
