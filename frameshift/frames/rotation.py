@@ -436,6 +436,14 @@ def _series(rate, epoch) -> tuple[str, object, np.ndarray, np.ndarray]:
     if e is None:
         e = (float(t.jd1[0]), float(t.jd2[0])) if t.kind == UTC else float(t.seconds[0])
     seconds = t.seconds_since(_check_clock("RateSeries", e, t))
+    if not seconds[0] <= 0.0 <= seconds[-1]:
+        raise FrameError(
+            "the epoch of a rate series must lie within the series (the angle is integrated "
+            f"from it); the series runs {seconds[0]:g} s to {seconds[-1]:g} s from the epoch",
+            variable="epoch",
+            expected="an epoch within the series",
+            found=f"{-seconds[0]:g} s before its first sample" if seconds[0] > 0 else "after it",
+        )
     if np.any(np.diff(seconds) <= 0):
         raise FrameError(
             "the rate series' times must increase",
