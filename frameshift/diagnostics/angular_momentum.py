@@ -23,7 +23,7 @@ from frameshift.errors import (
     UnsupportedInputError,
     check_choice,
 )
-from frameshift.frames import EARTH, check_frame
+from frameshift.frames import EARTH, Ellipsoid, check_frame
 
 __all__ = [
     "EXCITATION_CONSTANTS",
@@ -91,7 +91,7 @@ def axial_angular_momentum(
     >>> round(float(out.superrotation_index[0] * 465.1011), 3)  # u / (Ω a)
     10.0
     """
-    frame = check_frame(frame)
+    frame = check_frame(frame, Ellipsoid)
     vel = common.velocity_in_si(ds, velocity, frame)
     lat = common.as_plain(ds.variables[vel.latitude])
     omega = float(frame.rotation_rate)
@@ -199,7 +199,7 @@ def integrate_angular_momentum(
     1.0
     """
     check_choice("over", over, _OVER)
-    frame = check_frame(frame)
+    frame = check_frame(frame, Ellipsoid)
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
     reduce = grid.reduce_dims(over)
@@ -262,7 +262,7 @@ def excitation(
     5.94
     """
     k = _constants(constants)
-    frame = check_frame(frame)
+    frame = check_frame(frame, Ellipsoid)
     vel = common.velocity_in_si(ds, velocity, frame)
     grid = _Grid(ds, vel, frame, surface_pressure, density, vertical, gravity)
     factors = integrals.equatorial_factors(grid.lat.values, grid.lon.values, a=grid.a, f=grid.f)

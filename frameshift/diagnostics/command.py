@@ -12,7 +12,8 @@ from collections.abc import Callable, Mapping
 
 import xarray as xr
 
-from frameshift.errors import check_choice
+from frameshift.batch import Operation, register_operation
+from frameshift.errors import ConventionError, check_choice
 
 __all__ = ["EPILOG", "add_parser", "apply_momentum", "momentum_operation", "operation_from_args"]
 
@@ -38,7 +39,7 @@ def momentum_operation(
     velocity: Mapping[str, str] | None = None,
     excitation: bool = False,
     constants: str = "barnes1983",
-) -> object:
+) -> Operation:
     """An :class:`~frameshift.batch.Operation` computing integrated angular momentum.
 
     Examples
@@ -46,13 +47,9 @@ def momentum_operation(
     >>> momentum_operation(surface_pressure="ps").settings["over"]
     'global'
     """
-    from frameshift.batch import Operation
-
     check_choice("over", over, ("global", "latitude", "column"))
     check_choice("constants", constants, ("barnes1983", "eubanks1993"))
     if excitation and over != "global":
-        from frameshift.errors import ConventionError
-
         raise ConventionError(
             "--excitation needs the global integrals (--over global)",
             variable="over", expected="global with --excitation", found=over,
@@ -73,6 +70,13 @@ def apply_momentum(ds: xr.Dataset, settings: Mapping[str, object]) -> xr.Dataset
     if s["excitation"]:  # one pass over the data for the integrals and the excitation
         return excitation(ds, constants=s["constants"], include_integrals=True, **common)
     return integrate_angular_momentum(ds, over=s["over"], **common)
+
+
+def _run(ds: xr.Dataset, **settings) -> xr.Dataset:
+    return apply_momentum(ds, settings)
+
+
+register_operation("momentum", _run)
 
 
 def _number_or_name(text: str | None) -> float | str | None:
@@ -117,7 +121,7 @@ def add_parser(sub: argparse._SubParsersAction, common: Callable) -> None:
                         "standard_name")
 
 
-def operation_from_args(args: argparse.Namespace) -> object:
+def operation_from_args(args: argparse.Namespace) -> Operation:
     """The operation the parsed ``momentum`` arguments ask for."""
     return momentum_operation(
         over=args.over, surface_pressure=_number_or_name(args.surface_pressure),

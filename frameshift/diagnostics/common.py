@@ -18,7 +18,7 @@ import xarray as xr
 from frameshift.cf import stamp
 from frameshift.detect import find_layout
 from frameshift.errors import InputTypeError, MissingInputError, UnitsError, UnsupportedInputError
-from frameshift.frames import check_frame
+from frameshift.frames import Ellipsoid, check_frame
 from frameshift.units import parse_units, scale_to, ureg
 
 __all__ = [
@@ -94,7 +94,7 @@ def _scaled(var: xr.Variable, name: str, kind: str, target: str) -> xr.DataArray
 def velocity_in_si(ds: xr.Dataset, velocity: Mapping[str, str] | None, frame) -> Velocity:
     """Find the Earth-relative east/north velocity of ``ds`` and return it in m s-1."""
     require_dataset(ds)
-    check_frame(frame)
+    check_frame(frame, Ellipsoid)
     layout = find_layout(ds, velocity, height=0.0, target="inertial")
     vel = layout.velocity
     u = _scaled(ds.variables[vel.eastward], vel.eastward, "speed", "m s-1")

@@ -11,7 +11,7 @@ from frameshift._apply import apply_kernel
 from frameshift._kernels import spectra
 from frameshift.diagnostics import common
 from frameshift.errors import ConventionError, UnsupportedInputError, check_choice
-from frameshift.frames import EARTH, check_frame
+from frameshift.frames import EARTH, Ellipsoid, check_frame
 
 __all__ = ["inertial_demodulation", "rotary_spectrum"]
 
@@ -23,7 +23,7 @@ class _Record:
 
     def __init__(self, ds, velocity, frame, gaps: str) -> None:
         check_choice("gaps", gaps, _GAPS)
-        self.frame = check_frame(frame)
+        self.frame = check_frame(frame, Ellipsoid)
         self.vel = common.velocity_in_si(ds, velocity, self.frame)
         dims = tuple(map(str, self.vel.u.dims))
         self.time_dim, self.seconds = common.seconds_along(ds, self.vel.time, dims)

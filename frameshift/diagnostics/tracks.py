@@ -10,7 +10,7 @@ from frameshift._kernels import accelerations as acceleration_kernels
 from frameshift._kernels import tracks as kernel
 from frameshift.diagnostics import common
 from frameshift.errors import MissingInputError, UnsupportedInputError
-from frameshift.frames import EARTH, check_frame
+from frameshift.frames import EARTH, Ellipsoid, check_frame
 from frameshift.units import parse_units, scale_to
 
 __all__ = ["track_forces"]
@@ -74,7 +74,13 @@ def track_forces(
     >>> bool(abs(float(out.force_northward[0]) + float(out.centrifugal_northward[0])) < 1e-9)
     True
     """
-    frame = check_frame(frame)
+    frame = check_frame(frame, Ellipsoid)
+    if not getattr(frame, "steady", True):
+        raise UnsupportedInputError(
+            f"frame {frame.name!r} changes its rotation rate; track forces are worked out for "
+            "steady rotation (no Euler term) only",
+            variable="frame", expected="a steadily rotating frame", found="changing rate",
+        )
     common.require_dataset(ds)
     lat_name = latitude or _find(ds, "latitude", ("degrees_north", "degree_north", "degrees_N"))
     lon_name = longitude or _find(ds, "longitude", ("degrees_east", "degree_east", "degrees_E"))

@@ -11,7 +11,7 @@ from frameshift._apply import apply_kernel
 from frameshift._kernels import vorticity as kernel
 from frameshift.diagnostics import common
 from frameshift.errors import UnsupportedInputError
-from frameshift.frames import EARTH, check_frame
+from frameshift.frames import EARTH, Ellipsoid, check_frame
 
 __all__ = ["absolute_vorticity"]
 
@@ -58,7 +58,7 @@ def absolute_vorticity(
     >>> float(out.relative_vorticity.sel(lat=0.0)[0]) == 0.0  # uniform eastward flow: tan φ term
     True
     """
-    frame = check_frame(frame)
+    frame = check_frame(frame, Ellipsoid)
     vel = common.velocity_in_si(ds, velocity, frame)
     dims = tuple(map(str, vel.u.dims))
     lat_dim, lon_dim = common.grid_axes(ds, vel)

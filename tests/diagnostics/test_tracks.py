@@ -135,3 +135,10 @@ def test_heights_and_refusals(layout):
         frameshift.track_forces(ds, height="alt")
     numbers = frameshift.track_forces(ds.drop_vars("z"), height=10.0)
     assert "10 m given" in numbers.force_upward.attrs["assumptions"]
+    table = frameshift.Frame("turntable", frameshift.SteadyRate(1.0), frameshift.Plane())
+    with pytest.raises(frameshift.ConventionError, match="latitude/longitude"):
+        frameshift.track_forces(ds, table)
+    spin_up = frameshift.Frame("spin-up", frameshift.RateSeries(lambda s: OMEGA + 1e-9 * s),
+                               frameshift.Ellipsoid(6.4e6))
+    with pytest.raises(UnsupportedInputError, match="steady rotation"):
+        frameshift.track_forces(ds, spin_up)
