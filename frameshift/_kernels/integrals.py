@@ -270,14 +270,14 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
         nlev = len(thickness)
     source_loop = () if source is None else source.shape[:-3 if kind == "density" else -2]
     loop = np.broadcast_shapes(*(x.shape[:-3] for x in used), source_loop)
-    keep_sub = {0: "", 1: "j", 2: "ji"}[keep]
     out = np.zeros((*loop, *{0: (), 1: horizontal[:1], 2: horizontal}[keep], len(weights)))
-    groups = {}  # one pass over each field and level for all of its weights
+    groups = {}  # each field's weights, as (index, of_lat, of_lon) and their sums once
     for field in dict.fromkeys(w[0] for w in weights):
         index = [n for n, w in enumerate(weights) if w[0] == field]
-        groups[field] = (index, [np.multiply.outer(np.asarray(weights[n][1], dtype=np.float64),
-                                                   np.asarray(weights[n][2], dtype=np.float64))
-                                 for n in index])
+        lat_f = [np.asarray(weights[n][1], dtype=np.float64) for n in index]
+        lon_f = [np.asarray(weights[n][2], dtype=np.float64) for n in index]
+        groups[field] = (index, lat_f, lon_f)
+    unit = None
     ps_low = None
     if kind in ("surface", "column"):
         ps = np.asarray(source, dtype=np.float64)
@@ -295,37 +295,43 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
             mass = np.asarray(source[..., k, :, :], dtype=np.float64) * thickness[k]
         else:
             mass = ps / gravity
-        for field, (index, stack) in groups.items():
-            if field == "1":
-                total = _mass_sum(mass, stack, keep_sub)
+        for field, (index, lat_f, lon_f) in groups.items():
+            if field == "1" and np.ndim(mass) == 0:  # Σ w is the same on every level
+                if unit is None:
+                    unit = _mass_sum(np.ones(horizontal), lat_f, lon_f, keep)
+                total = float(mass) * unit
+            elif field == "1":
+                total = _mass_sum(mass, lat_f, lon_f, keep)
             else:
                 values = fields[field][..., k, :, :]
-                total = _field_sum(values, mass, stack, keep_sub)
+                total = _field_sum(values, mass, lat_f, lon_f, keep)
                 if kind == "surface" and np.ndim(mass) and np.isnan(total).any():
                     values = np.where(mass == 0.0, 0.0, values)
-                    total = _field_sum(values, mass, stack, keep_sub)
+                    total = _field_sum(values, mass, lat_f, lon_f, keep)
             out[..., index] += total
     return out
 
 
-def _field_sum(values, mass, stack, keep_sub: str) -> np.ndarray:
+def _separable(product, lat_f, lon_f, keep: int) -> np.ndarray:
+    """Σ product × (lat_f ⊗ lon_f) over lon then lat (as ``keep`` says), float64, fixed order."""
+    if keep == 2:
+        return product * lat_f[:, None] * lon_f
+    along_lat = np.einsum("...ji,i->...j", product, lon_f, dtype=np.float64)
+    if keep == 1:
+        return along_lat * lat_f
+    return np.einsum("...j,j->...", along_lat, lat_f, dtype=np.float64)
+
+
+def _field_sum(values, mass, lat_f, lon_f, keep: int) -> np.ndarray:
     scale = 1.0
     if np.ndim(mass) == 0:
         product, scale = values, float(mass)
     else:
         product = np.multiply(values, mass, dtype=np.float64)
-    sums = [np.einsum(f"...ji,ji->...{keep_sub}", product, w, dtype=np.float64) for w in stack]
+    sums = [_separable(product, a, b, keep) for a, b in zip(lat_f, lon_f, strict=True)]
     return scale * np.stack(sums, axis=-1)
 
 
-def _mass_sum(mass, stack, keep_sub: str) -> np.ndarray:
-    if np.ndim(mass) == 0:
-        return float(mass) * np.stack([_reduce_core(w, len(keep_sub)) for w in stack], axis=-1)
-    sums = [np.einsum(f"...ji,ji->...{keep_sub}", mass, w, dtype=np.float64) for w in stack]
+def _mass_sum(mass, lat_f, lon_f, keep: int) -> np.ndarray:
+    sums = [_separable(mass, a, b, keep) for a, b in zip(lat_f, lon_f, strict=True)]
     return np.stack(sums, axis=-1)
-
-
-def _reduce_core(x: np.ndarray, keep: int) -> np.ndarray:
-    if keep == 2:
-        return x
-    return x.sum(axis=(-1,) if keep == 1 else (-2, -1))

@@ -19,7 +19,6 @@ are used.
 from __future__ import annotations
 
 import numpy as np
-from scipy import signal
 
 from frameshift.errors import UnsupportedInputError
 
@@ -82,6 +81,8 @@ def rotary_welch(u, v, *, fs: float, nperseg: int, index=None, split: bool = Fal
     >>> int(np.argmax(cw)), bool(cw.max() > 1e3 * ccw.max())  # 1/8 cycle per sample = bin 8
     (8, True)
     """
+    from scipy import signal  # imported here: importing frameshift stays quick
+
     w = np.asarray(u, dtype=np.float64) + 1j * np.asarray(v, dtype=np.float64)
     w = _regular(w, index)
     missing = ~np.isfinite(w)
@@ -152,6 +153,8 @@ def demodulate(u, v, inertial, *, seconds, dt: float, window: int | None = None,
     >>> round(float(np.nanmean(amp)), 6), round(float(np.nanmean(ph)), 6)
     (0.2, 0.5)
     """
+    from scipy import signal  # imported here: importing frameshift stays quick
+
     w = np.asarray(u, dtype=np.float64) + 1j * np.asarray(v, dtype=np.float64)
     t = np.asarray(seconds, dtype=np.float64)
     f = np.broadcast_to(np.asarray(inertial, dtype=np.float64), w.shape[:-1])

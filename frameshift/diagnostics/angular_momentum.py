@@ -372,14 +372,18 @@ class _Grid:
             args.append(arr)
             arg_dims.append(dims)
         names = list(weights)
-        stacked = apply_kernel(
-            _ShellSums(tuple(absent)), *args, input_core_dims=arg_dims,
-            output_core_dims=([*keep, "quantity"],), output_sizes={"quantity": len(names)},
-            kwargs={"kind": self.kind, "weights": [weights[n] for n in names],
-                    "keep": len(keep), "bounds": self.bounds, "thickness": self.thickness,
-                    "gravity": self.gravity},
-        )
+        kwargs = {"kind": self.kind, "weights": [weights[n] for n in names], "keep": len(keep),
+                  "bounds": self.bounds, "thickness": self.thickness, "gravity": self.gravity}
         loop = [d for d in vel.u.dims if d not in core]
+        if any(a.chunks is not None for a in args):
+            stacked = _blockwise(_ShellSums(tuple(absent)), args, arg_dims, loop, keep,
+                                 len(names), kwargs)
+        else:
+            stacked = apply_kernel(
+                _ShellSums(tuple(absent)), *args, input_core_dims=arg_dims,
+                output_core_dims=([*keep, "quantity"],), output_sizes={"quantity": len(names)},
+                kwargs=kwargs,
+            )
         return {n: stacked.isel(quantity=i).transpose(*loop, *keep)
                 for i, n in enumerate(names)}
 
@@ -488,6 +492,46 @@ class _Grid:
         else:
             self.kind, self.source, self.thickness = "density", rho, thickness
         return note + "; mass = density x thickness"
+
+
+def _blockwise(func, args, arg_dims, loop, keep, n, kwargs) -> xr.DataArray:
+    """Run ``func`` block by block on Dask data whose core dimensions are whole.
+
+    Like ``apply_kernel``, but each task gets the stored blocks themselves
+    (``dask.array.blockwise`` without concatenation: no copy of every block),
+    and arguments lacking a loop dimension get a length-1 axis in its place.
+    """
+    import dask.array as da
+
+    letters = {d: chr(ord("a") + i) for i, d in enumerate([*loop, *arg_dims[0]])}
+    for dims in arg_dims:
+        for d in dims:
+            letters.setdefault(d, chr(ord("a") + len(letters)))
+    pairs, expand = [], []
+    for arr, dims in zip(args, arg_dims, strict=True):
+        own = [d for d in loop if d in arr.dims]
+        data = arr.transpose(*own, *dims).data
+        pairs += [data, "".join(letters[d] for d in (*own, *dims))]
+        expand.append(tuple(i for i, d in enumerate(loop) if d not in own))
+    out = "".join(letters[d] for d in (*loop, *keep)) + "Q"
+    data = da.blockwise(_Blocks(func, tuple(expand), kwargs), out, *pairs, new_axes={"Q": n},
+                        dtype=np.float64, concatenate=None, meta=np.empty((0,) * len(out)))
+    return xr.DataArray(data, dims=[*loop, *keep, "quantity"])
+
+
+class _Blocks:
+    """Unwrap the one-block lists blockwise hands over, restore missing loop axes, call."""
+
+    def __init__(self, func, expand: tuple[tuple[int, ...], ...], kwargs: dict) -> None:
+        self.func, self.expand, self.kwargs = func, expand, kwargs
+
+    def __call__(self, *blocks):
+        arrays = []
+        for block, missing in zip(blocks, self.expand, strict=True):
+            while isinstance(block, list):
+                (block,) = block
+            arrays.append(np.expand_dims(block, missing) if missing else block)
+        return self.func(*arrays, **self.kwargs)
 
 
 class _ShellSums:

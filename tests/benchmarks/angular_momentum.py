@@ -13,9 +13,10 @@ member). Compared, interleaved over the rounds:
 - ``frameshift momentum --excitation`` (reads ``ua``, ``va``, ``ps``) against
   reading the whole archive once;
 
-where "reading once" is the faster of netCDF4 reading every variable slab by
-slab into memory, and xarray + Dask reading the file's own chunks with the
-threaded scheduler (each chunk summed, so nothing is kept). Then the same
+where "reading once" is, side by side, netCDF4 reading every variable slab by
+slab into memory (the floor), and xarray + Dask reading the file's own chunks
+with the threaded scheduler (each chunk summed, so nothing is kept). Every
+command is a fresh process, so each time includes Python's start and imports. Then the same
 ``--excitation`` run on a local Dask cluster (``--workers 2``) must give
 identical numbers.
 """
@@ -28,7 +29,6 @@ import shutil
 import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
@@ -162,10 +162,8 @@ def _run(tmp: Path, ntime: int, repeats: int) -> list[Row]:
             results[name].append(_measure(cmd))
     wall = {k: sorted(r["wall_s"] for r in v)[len(v) // 2] for k, v in results.items()}
     peak = {k: max(r["peak_rss_bytes"] for r in v) for k, v in results.items()}
-    t0 = time.perf_counter()
     cluster = _measure([*momentum, "--excitation", "--workers", "2", "--out",
                         str(tmp / "cluster")])  # fmt: skip
-    del t0
     identical, worst = _compare(tmp / "chi" / src.name, tmp / "cluster" / src.name)
     sizes = (f"{size / 1e9:.2f} GB NetCDF: ua, va float32 {(ntime, *GRID)} (time, plev, lat, "
              "lon) and ps, uncompressed; default --memory")
@@ -174,13 +172,13 @@ def _run(tmp: Path, ntime: int, repeats: int) -> list[Row]:
     for ours, bases in (("momentum", ("read ua, ps (netCDF4)", "read ua, ps (xarray + Dask)")),
                         ("momentum --excitation", ("read all (netCDF4)",
                                                    "read all (xarray + Dask)"))):
-        base = min(bases, key=lambda b: wall[b])
-        ratio = wall[ours] / wall[base]
-        rows.append(Row("B13", f"CLI {ours} vs {base}", sizes, reps, ratio,
-                        "wall time frameshift / one read", TARGET, verdict(ratio, at_most=1.3),
-                        {ours: wall[ours], **{b: wall[b] for b in bases}},
-                        extra={"runs (s)": ", ".join(f"{r['wall_s']:.1f}"
-                                                     for r in results[ours])}))  # fmt: skip
+        for base in bases:  # the plain netCDF4 floor and the same stack's own reading
+            ratio = wall[ours] / wall[base]
+            rows.append(Row("B13", f"CLI {ours} vs {base}", sizes, reps, ratio,
+                            "wall time frameshift / one read", TARGET,
+                            verdict(ratio, at_most=1.3), {ours: wall[ours], base: wall[base]},
+                            extra={"runs (s)": ", ".join(f"{r['wall_s']:.1f}"
+                                                         for r in results[ours])}))  # fmt: skip
     gb = max(peak["momentum"], peak["momentum --excitation"]) / 1e9
     rows.append(Row("B13", "CLI momentum peak resident memory", sizes, reps, gb, "GB", "<= 1 GB",
                     verdict(gb, at_most=1.0),
