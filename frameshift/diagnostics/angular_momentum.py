@@ -211,7 +211,8 @@ def integrate_angular_momentum(
     }, over)
     relative, frame_part, mass = sums["relative"], sums["frame"], sums["mass"]
     base = {**common.frame_attrs(frame), "velocity_variables": f"{vel.eastward} {vel.northward}",
-            "cell_methods": " ".join(f"{d}:" for d in reduce) + " sum" if reduce else "",
+            # not cell_methods: CF names there only dimensions the result still has
+            "summed_over": " ".join(reduce),
             "assumptions": grid.notes}
     base = {k: v for k, v in base.items() if v}
     out = xr.Dataset(_momentum_variables(relative, frame_part, mass, base))
@@ -306,8 +307,7 @@ def excitation(
     out["length_of_day_change"] = (out["chi3"] * DAY * 1e3).assign_attrs(
         long_name="change of the length of day excited (chi3 x 86400 s)", units="ms", **base)
     if include_integrals:
-        cells = {**base, "cell_methods": " ".join(f"{d}:" for d in grid.reduce_dims("global"))
-                 + " sum"}
+        cells = {**base, "summed_over": " ".join(grid.reduce_dims("global"))}
         out.update(_momentum_variables(h3, sums["frame"], sums["mass"], cells))
     else:
         out["angular_momentum_relative"] = h3.assign_attrs(

@@ -27,6 +27,8 @@ from frameshift._kernels import integrals
 from frameshift.diagnostics.angular_momentum import EXCITATION_CONSTANTS, STANDARD_GRAVITY
 from tests.diagnostics.data import CURRENT, grid, run_lazily, times
 from tests.helpers import (
+    BUILDERS,
+    all_kinds,
     as_layout,
     assert_udunits,
     eager_and_chunked,
@@ -163,6 +165,26 @@ def test_per_unit_mass_values_and_retrograde_sign(layout):
 
 
 @eager_and_chunked
+@all_kinds
+def test_per_unit_mass_on_grids_stations_and_tracks(layout, kind):
+    # AMS Glossary: m = (u + Ω p) p with p the distance from the axis; here p from pyproj's
+    # WGS 84 body-fixed position (sqrt(x² + y²)) at each point, u in m s-1.
+    ds = BUILDERS[kind]()
+    out = run_lazily(frameshift.axial_angular_momentum, ds, layout)
+    name = {"grid": "ua"}.get(kind, "u")
+    units = ds[name].attrs["units"]
+    u = ds[name] * {"m s-1": 1.0, "cm s-1": 0.01, "knot": 1852.0 / 3600.0}[units]
+    lat, lon = xr.broadcast(ds["lat"], ds["lon"])
+    x, y, _ = Transformer.from_crs("EPSG:4979", "EPSG:4978", always_xy=True).transform(
+        lon.values, lat.values, np.zeros(lat.shape))
+    p = xr.DataArray(np.hypot(x, y), dims=lat.dims)
+    expected = (u + OMEGA * p) * p
+    xr.testing.assert_allclose(out.angular_momentum_absolute.drop_vars(out.coords),
+                               expected.transpose(*out.angular_momentum_absolute.dims)
+                               .drop_vars(expected.coords), rtol=1e-9)
+
+
+@eager_and_chunked
 def test_density_on_depth_levels(layout):
     # Ocean shell 500 m deep (depth bounds 0-100-500 m), ρ = 1025 kg m-3: M = ρ H × area;
     # solid-body u = U cos φ gives (2/3) M a U (analytic, as above).
@@ -271,7 +293,7 @@ def test_metadata(layout):
             # no CF v93 name exists for angular momentum or excitation (reference values)
             assert "standard_name" not in var.attrs
     assert results[1].length_of_day_change.attrs["units"] == "ms"
-    assert results[0].angular_momentum_relative.attrs["cell_methods"] == "plev: lat: lon: sum"
+    assert results[0].angular_momentum_relative.attrs["summed_over"] == "plev lat lon"
 
 
 @eager_and_chunked

@@ -2,12 +2,18 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
+import pytest
 import xarray as xr
 
 import frameshift
 from frameshift.cli import main
 from tests.diagnostics.data import grid, times
+from tests.test_io import assert_cf_clean
+
+DEMO_WINDS = Path(__file__).resolve().parents[2] / "data_demo" / "global_winds.nc"
 
 PLEV = np.array([100000.0, 70000.0, 40000.0, 10000.0])
 
@@ -60,3 +66,13 @@ def test_momentum_command_refusals(tmp_path, capsys):
     code = main(["momentum", str(src), "--out", str(out), "--over", "latitude", "--excitation"])
     assert code == 2
     assert "--excitation needs the global integrals" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("options", [["--excitation"], ["--over", "latitude"],
+                                     ["--over", "column"]], ids=["excitation", "bands", "columns"])
+def test_momentum_outputs_pass_the_cf_checker(tmp_path, options):
+    # IOOS compliance checker, cf:1.11: no errors and no warnings, on the invented demo winds
+    code = main(["momentum", str(DEMO_WINDS), "--out", str(tmp_path), "--surface-pressure", "ps",
+                 "--quiet", *options])
+    assert code == 0
+    assert_cf_clean(tmp_path / DEMO_WINDS.name)
