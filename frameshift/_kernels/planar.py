@@ -45,6 +45,7 @@ __all__ = [
     "coriolis",
     "euler",
     "fixed_grid_change",
+    "fixed_grid_sample",
     "lab_to_table",
     "planar_accelerations",
     "rotate",
@@ -302,3 +303,26 @@ def fixed_grid_change(axis_y, axis_x, u, v, angle, rate, cx=0.0, cy=0.0, *, dire
         both = sample_linear(axis_y, axis_x, np.stack([tu, tv], axis=-1), qy + cy, qx + cx)
         out_u[idx], out_v[idx] = both[..., 0], both[..., 1]
     return out_u, out_v
+
+
+def fixed_grid_sample(axis_y, axis_x, values, angle, cx=0.0, cy=0.0, *, direction):
+    """A scalar field (or a vertical component) moved to a grid fixed in the other frame.
+
+    As :func:`fixed_grid_change` for a quantity that does not change with the
+    frame: ``values`` has shape ``(..., ny, nx)``, ``angle`` broadcasts
+    against its leading axes; NaN outside the measured area.
+    """
+    axis_y = np.asarray(axis_y, dtype=np.float64)
+    axis_x = np.asarray(axis_x, dtype=np.float64)
+    values = np.asarray(values, dtype=np.float64)
+    lead = np.broadcast_shapes(values.shape[:-2], np.shape(angle))
+    grid = (axis_y.size, axis_x.size)
+    values = np.broadcast_to(values, (*lead, *grid))
+    angle = np.broadcast_to(np.asarray(angle, dtype=np.float64), lead)
+    gy, gx = np.meshgrid(axis_y, axis_x, indexing="ij")
+    sign = -1.0 if direction == "to_inertial" else 1.0
+    out = np.empty((*lead, *grid))
+    for idx in np.ndindex(*lead):
+        qx, qy = rotate(gx - cx, gy - cy, sign * angle[idx])
+        out[idx] = sample_linear(axis_y, axis_x, values[idx], qy + cy, qx + cx)
+    return out
