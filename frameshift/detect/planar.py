@@ -27,7 +27,13 @@ from frameshift.errors import (
 )
 from frameshift.units import parse_units, scale_to
 
-__all__ = ["PLANAR_AXES", "PlanarLayout", "read_planar_layout", "rotation_series"]
+__all__ = [
+    "PLANAR_AXES",
+    "PlanarLayout",
+    "read_planar_grid",
+    "read_planar_layout",
+    "rotation_series",
+]
 
 PLANAR_AXES = ("x", "y", "z")
 #: What marks a coordinate as the x or y position (data, not logic)
@@ -110,8 +116,39 @@ def read_planar_layout(
                 expected=str(ds[names["x"]].dims),
                 found=str(ds[name].dims),
             )
-    first = ds[names["x"]]
-    x, y = (_position(ds, first, axis) for axis in ("x", "y"))
+    x, y, time, length_units = read_planar_grid(ds, names["x"])
+    return PlanarLayout(
+        x_velocity=names["x"],
+        y_velocity=names["y"],
+        z_velocity=names.get("z"),
+        x=x,
+        y=y,
+        time=time,
+        length_units=length_units,
+        speed_scales=tuple(scales),
+    )
+
+
+def read_planar_grid(ds: xr.Dataset, name: str | None = None):
+    """x and y coordinate names, time name and length unit of a variable's grid (or the Dataset's).
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> ds = xr.Dataset(coords={"x": ("x", [0.0, 1.0], {"units": "cm"}),
+    ...                         "y": ("y", [0.0], {"units": "cm"})})
+    >>> read_planar_grid(ds)[:3]
+    ('x', 'y', None)
+    """
+    if name is not None and name not in ds.variables:
+        raise MissingInputError(
+            f"{name!r} is not in the Dataset",
+            variable=name,
+            expected="a variable of the Dataset",
+            found="absent",
+        )
+    holder = ds[name] if name is not None else ds
+    x, y = (_position(ds, holder, axis) for axis in ("x", "y"))
     units = {a: parse_units(n, ds[n].attrs.get("units"), "length") for a, n in (("x", x), ("y", y))}
     if scale_to(units["x"], "m") != scale_to(units["y"], "m"):
         raise UnsupportedInputError(
@@ -121,16 +158,7 @@ def read_planar_layout(
             expected=str(units["x"]),
             found=str(units["y"]),
         )
-    return PlanarLayout(
-        x_velocity=names["x"],
-        y_velocity=names["y"],
-        z_velocity=names.get("z"),
-        x=x,
-        y=y,
-        time=_time(first),
-        length_units=units["x"],
-        speed_scales=tuple(scales),
-    )
+    return x, y, _time(holder), units["x"]
 
 
 def _velocity_names(ds: xr.Dataset, velocity: Mapping[str, str] | None) -> dict[str, str]:
@@ -177,7 +205,7 @@ def _velocity_names(ds: xr.Dataset, velocity: Mapping[str, str] | None) -> dict[
     return {c: velocity[c] for c in PLANAR_AXES if c in velocity}
 
 
-def _position(ds: xr.Dataset, var: xr.DataArray, axis: str) -> str:
+def _position(ds: xr.Dataset, var: xr.DataArray | xr.Dataset, axis: str) -> str:
     hits = []
     for name, coord in var.coords.items():
         attrs = coord.attrs
@@ -194,17 +222,21 @@ def _position(ds: xr.Dataset, var: xr.DataArray, axis: str) -> str:
     if len(hits) != 1:
         found = "none" if not hits else ", ".join(map(repr, hits))
         raise MissingInputError(
-            f"cannot tell the {axis} position of {var.name!r}: expected one coordinate with "
+            f"cannot tell the {axis} position of {_label(var)}: expected one coordinate with "
             f"axis={POSITION_AXIS[axis]!r}, standard_name={POSITION_STANDARD_NAMES[axis]!r} "
             f"or the name {axis!r}; found {found}",
-            variable=str(var.name),
+            variable=str(var.name) if isinstance(var, xr.DataArray) else "ds",
             expected=f"one {axis} coordinate in length units",
             found=found,
         )
     return hits[0]
 
 
-def _time(var: xr.DataArray) -> str | None:
+def _label(holder: xr.DataArray | xr.Dataset) -> str:
+    return repr(holder.name) if isinstance(holder, xr.DataArray) else "the Dataset"
+
+
+def _time(var: xr.DataArray | xr.Dataset) -> str | None:
     hits = []
     for name, coord in var.coords.items():
         kind = coord.dtype.kind
@@ -217,12 +249,12 @@ def _time(var: xr.DataArray) -> str | None:
         if decoded or marked:
             hits.append(str(name))
     if len(hits) > 1:
-        dims = [h for h in hits if h in var.dims]
+        dims = [h for h in hits if h in var.dims]  # a dimension coordinate first
         hits = dims if len(dims) == 1 else hits
     if len(hits) > 1:
         raise UnsupportedInputError(
-            f"{var.name!r} has several time coordinates ({', '.join(hits)}); keep one",
-            variable=str(var.name),
+            f"{_label(var)} has several time coordinates ({', '.join(hits)}); keep one",
+            variable=str(var.name) if isinstance(var, xr.DataArray) else "ds",
             expected="one time coordinate",
             found=", ".join(hits),
         )
