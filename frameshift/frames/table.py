@@ -29,7 +29,7 @@ __all__ = ["SENSES", "RotatingTable", "angular_rate"]
 
 SENSES = ("counter-clockwise", "clockwise")
 #: unit names that say which angle a rate turns through (pint's names)
-_ANGLE_WORDS = ("radian", "degree", "revolution", "turn", "cycle", "arcminute", "arcsecond")
+_ANGLE_WORDS = ("radian", "degree", "revolution", "turn", "cycle", "arcminute", "arcsecond")  # rpm: revolutions_per_minute
 
 
 def angular_rate(value: object, variable: str = "rate") -> float:
@@ -68,7 +68,7 @@ def angular_rate(value: object, variable: str = "rate") -> float:
             expected="a rotation rate (rpm, rad s-1, deg s-1)",
             found=repr(value),
         ) from exc
-    if not any(word in unit_names for word in _ANGLE_WORDS + ("revolutions_per_minute",)):
+    if not any(word in unit_names for word in _ANGLE_WORDS):
         raise UnitsError(
             f"{variable}={value!r} does not say which angle it turns through; use rad s-1, "
             "deg s-1 or rpm (s-1 and Hz are ambiguous between radians and turns)",
