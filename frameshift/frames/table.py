@@ -28,8 +28,9 @@ from frameshift.units import ureg
 __all__ = ["SENSES", "RotatingTable", "angular_rate"]
 
 SENSES = ("counter-clockwise", "clockwise")
-#: unit names that say which angle a rate turns through (pint's names)
-_ANGLE_WORDS = ("radian", "degree", "revolution", "turn", "cycle", "arcminute", "arcsecond")  # rpm: revolutions_per_minute
+#: unit names that say which angle a rate turns through (pint names; rpm is
+#: revolutions_per_minute, which contains "revolution")
+_ANGLE_WORDS = ("radian", "degree", "revolution", "turn", "cycle", "arcminute", "arcsecond")
 
 
 def angular_rate(value: object, variable: str = "rate") -> float:
