@@ -9,6 +9,7 @@ from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
 from frameshift._version import __version__
 from frameshift.dynamics.accelerations import apparent_accelerations, coriolis_parameters
 from frameshift.dynamics.gravity import normal_gravity
+from frameshift.dynamics.planar import free_surface
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -22,12 +23,18 @@ from frameshift.errors import (
 from frameshift.frames import (
     EARTH,
     EARTH_SPHERE,
+    JUPITER,
+    MARS,
+    SATURN,
+    TITAN,
+    VENUS,
     EarthRotationAngle,
     Ellipsoid,
     Frame,
     Plane,
     Planet,
     RateSeries,
+    RotatingTable,
     SteadyRate,
 )
 from frameshift.transforms import to_inertial, to_rotating
@@ -35,6 +42,11 @@ from frameshift.transforms import to_inertial, to_rotating
 __all__ = [
     "EARTH",
     "EARTH_SPHERE",
+    "JUPITER",
+    "MARS",
+    "SATURN",
+    "TITAN",
+    "VENUS",
     "ConventionError",
     "EarthRotationAngle",
     "Ellipsoid",
@@ -47,12 +59,14 @@ __all__ = [
     "Plane",
     "Planet",
     "RateSeries",
+    "RotatingTable",
     "SteadyRate",
     "UnitsError",
     "UnsupportedInputError",
     "__version__",
     "apparent_accelerations",
     "coriolis_parameters",
+    "free_surface",
     "normal_gravity",
     "to_inertial",
     "to_rotating",

@@ -37,13 +37,14 @@ from frameshift.detect import (
     require_dataset,
     time_instants,
 )
+from frameshift.dynamics.planar import planar_accelerations
 from frameshift.errors import (
     ConventionError,
     FrameError,
     MissingInputError,
     UnsupportedInputError,
 )
-from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, check_frame
+from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, Plane, check_frame
 
 __all__ = ["TERMS", "TERM_FORMULAS", "apparent_accelerations", "coriolis_parameters"]
 
@@ -202,6 +203,8 @@ def apparent_accelerations(
     -0.001031261
     """
     require_dataset(ds)
+    if isinstance(getattr(frame, "figure", None), Plane):  # a lab table: terms on x, y, z
+        return planar_accelerations(ds, frame, terms=terms, velocity=velocity)
     check_frame(frame, Ellipsoid)
     chosen = _check_terms(terms)
     traditional = bool(traditional)

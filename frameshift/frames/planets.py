@@ -30,7 +30,6 @@ from __future__ import annotations
 import math
 
 from frameshift.frames.bodies import Planet
-
 from frameshift.frames.iau2015 import ELEMENTS, RotationalElements
 
 __all__ = ["JUPITER", "MARS", "NAMED_BODIES", "SATURN", "TITAN", "VENUS", "iau_elements"]

@@ -15,14 +15,15 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from dataclasses import dataclass
 
 import numpy as np
 import xarray as xr
+
+from frameshift.errors import ConventionError, FrameError, UnitsError, check_choice
 from frameshift.frames.bodies import Frame
 from frameshift.frames.figure import Plane
 from frameshift.frames.rotation import RateSeries, SteadyRate
-
-from frameshift.errors import ConventionError, FrameError, UnitsError, check_choice
 from frameshift.units import ureg
 
 __all__ = ["SENSES", "RotatingTable", "angular_rate"]
@@ -102,6 +103,16 @@ def _series(rate: xr.DataArray, sign: float) -> xr.DataArray:
     return out
 
 
+@dataclass(frozen=True)
+class _Clockwise:
+    """A rate function given clockwise-positive, turned to the counter-clockwise sign."""
+
+    function: Callable
+
+    def __call__(self, seconds):
+        return -np.asarray(self.function(seconds), dtype=np.float64)
+
+
 def RotatingTable(
     rate: object,
     *,
@@ -151,12 +162,8 @@ def RotatingTable(
         law = RateSeries(_series(rate, sign), epoch=epoch, angle_at_epoch=angle_at_epoch)
         kind = "rate series"
     elif callable(rate) and not isinstance(rate, str):
-        fn: Callable = rate
-        law = RateSeries(
-            lambda t: sign * np.asarray(fn(t), dtype=np.float64),
-            epoch=epoch,
-            angle_at_epoch=angle_at_epoch,
-        )
+        fn: Callable = rate if sign > 0 else _Clockwise(rate)
+        law = RateSeries(fn, epoch=epoch, angle_at_epoch=angle_at_epoch)
         kind = "rate function"
     else:
         law = SteadyRate(sign * angular_rate(rate), epoch=epoch, angle_at_epoch=angle_at_epoch)

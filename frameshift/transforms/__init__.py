@@ -15,10 +15,11 @@ import xarray as xr
 
 from frameshift.detect import INERTIAL, ROTATING, read_layout, require_dataset
 from frameshift.errors import ConventionError, check_choice
-from frameshift.frames import EARTH, Ellipsoid, Frame, check_frame
+from frameshift.frames import EARTH, Ellipsoid, Frame, Plane, check_frame
 from frameshift.frames.celestial import CELESTIAL_AXES
 from frameshift.transforms.cartesian import from_cartesian, to_cartesian
 from frameshift.transforms.local import convert_local
+from frameshift.transforms.planar import GRIDS, planar_to_inertial, planar_to_rotating
 
 __all__ = ["BASES", "to_inertial", "to_rotating"]
 
@@ -37,6 +38,7 @@ def to_inertial(
     longitude: str | None = None,
     vertical: str | None = None,
     time: str | None = None,
+    grid: str = "same",
 ) -> xr.Dataset:
     """Velocities relative to a rotating body, seen from the inertial frame.
 
@@ -72,6 +74,14 @@ def to_inertial(
         with precession-nutation (GCRS, IAU 2006/2000A, needs pyerfa).
     dut1 : float or DataArray over time
         UT1 - UTC in seconds, for ``basis="cartesian"``.
+    grid : {"same", "fixed"}
+        For a frame with a plane figure (a
+        :func:`~frameshift.frames.RotatingTable`): ``"same"`` keeps the
+        measured points and adds their positions in the target frame as
+        coordinates; ``"fixed"`` moves every field to a grid fixed in the
+        target frame by linear interpolation (see
+        :mod:`frameshift.transforms.planar`). Velocities are then named
+        ``velocity={"x": ..., "y": ...}`` (optionally ``"z"``).
 
     Returns
     -------
@@ -88,6 +98,8 @@ def to_inertial(
     >>> round(float(frameshift.to_inertial(ds)["u"][0]), 4)
     465.1011
     """
+    if _planar(frame, grid):
+        return planar_to_inertial(ds, frame, velocity=velocity, grid=grid)
     return _convert(ds, frame, INERTIAL, basis, velocity, height, celestial, dut1,
                     latitude, longitude, vertical, time)
 
@@ -105,6 +117,7 @@ def to_rotating(
     longitude: str | None = None,
     vertical: str | None = None,
     time: str | None = None,
+    grid: str = "same",
 ) -> xr.Dataset:
     """Inertial velocities back to velocities relative to the rotating body.
 
@@ -130,8 +143,26 @@ def to_rotating(
     >>> round(float(back["u"][0]), 9)
     10.0
     """
+    if _planar(frame, grid):
+        return planar_to_rotating(ds, frame, velocity=velocity, grid=grid)
     return _convert(ds, frame, ROTATING, basis, velocity, height, celestial, dut1,
                     latitude, longitude, vertical, time)
+
+
+def _planar(frame, grid) -> bool:
+    """True for a frame with a plane figure (a lab table); ``grid=`` is only for those."""
+    check_choice("grid", grid, GRIDS)
+    if isinstance(getattr(frame, "figure", None), Plane):
+        return True
+    if grid != "same":
+        raise ConventionError(
+            "grid= places lab fields for a frame with a plane figure (a rotating table); "
+            f"frame {getattr(frame, 'name', frame)!r} is not one",
+            variable="grid",
+            expected="'same' for this frame",
+            found=repr(grid),
+        )
+    return False
 
 
 def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,

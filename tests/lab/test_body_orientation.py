@@ -17,10 +17,7 @@ from astropy import units as u
 from astropy.coordinates import SkyCoord
 
 from frameshift._kernels import orientation
-
-# frameshift.frames becomes a package with the frame-model layout; until that is merged
-# this module cannot be imported (removed at the merge).
-ELEMENTS = pytest.importorskip("frameshift.frames.iau2015").ELEMENTS
+from frameshift.frames.iau2015 import ELEMENTS
 
 #: UTC calendar dates of the checks, and two-part TT Julian dates for them (pyerfa)
 DATES = [(1990, 1, 1, 0, 0, 0.0), (2000, 1, 1, 12, 0, 0.0), (2026, 12, 2, 5, 30, 0.0),
