@@ -14,9 +14,14 @@ from collections.abc import Mapping
 import xarray as xr
 
 from frameshift.detect import INERTIAL, ROTATING, read_layout, require_dataset
+from frameshift.detect.latitude_kind import (
+    LATITUDE_KINDS,
+    planetographic_view,
+    restore_latitudes,
+)
 from frameshift.errors import ConventionError, check_choice
 from frameshift.frames import EARTH, Ellipsoid, Frame, Plane, check_frame
-from frameshift.frames.celestial import CELESTIAL_AXES
+from frameshift.frames.celestial import CELESTIAL_AXES, resolve_axes
 from frameshift.transforms.cartesian import from_cartesian, to_cartesian
 from frameshift.transforms.local import convert_local
 from frameshift.transforms.planar import GRIDS, planar_to_inertial, planar_to_rotating
@@ -39,6 +44,7 @@ def to_inertial(
     vertical: str | None = None,
     time: str | None = None,
     grid: str = "same",
+    latitude_kind: str = "planetographic",
 ) -> xr.Dataset:
     """Velocities relative to a rotating body, seen from the inertial frame.
 
@@ -69,9 +75,14 @@ def to_inertial(
         Name the coordinate to use where the file carries no CF attributes for
         it or leaves a choice open; otherwise each velocity's ``coordinates``
         attribute decides.
-    celestial : {"cirs", "gcrs"}
-        Inertial axes for ``basis="cartesian"``: rotation angle only (CIRS) or
-        with precession-nutation (GCRS, IAU 2006/2000A, needs pyerfa).
+    celestial : {"cirs", "gcrs", "pole", "icrf"}
+        Inertial axes for ``basis="cartesian"``: for the Earth, rotation angle
+        only (CIRS, also "pole") or with precession-nutation (GCRS, IAU
+        2006/2000A, needs pyerfa); for another body, its own non-rotating
+        axes along its pole ("pole", also "cirs") or, for the named bodies
+        (MARS, VENUS...), the ICRF through the IAU 2015 pole and prime
+        meridian ("icrf", needs pyerfa). ``inertial_axes`` and
+        ``inertial_axes_definition`` in the attributes say which.
     dut1 : float or DataArray over time
         UT1 - UTC in seconds, for ``basis="cartesian"``.
     grid : {"same", "fixed"}
@@ -82,6 +93,11 @@ def to_inertial(
         target frame by linear interpolation (see
         :mod:`frameshift.transforms.planar`). Velocities are then named
         ``velocity={"x": ..., "y": ...}`` (optionally ``"z"``).
+    latitude_kind : {"planetographic", "planetocentric"}
+        What the latitudes are on a flattened body: planetographic (geodetic,
+        the normal to the surface; the default) or planetocentric (from the
+        centre). Planetocentric ones are converted to place the points and
+        left as given in the result (``latitude_kind`` in its attributes).
 
     Returns
     -------
@@ -100,8 +116,13 @@ def to_inertial(
     """
     if _planar(frame, grid):
         return planar_to_inertial(ds, frame, velocity=velocity, grid=grid)
-    return _convert(ds, frame, INERTIAL, basis, velocity, height, celestial, dut1,
-                    latitude, longitude, vertical, time)
+    view, names = planetographic_view(
+        require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
+        longitude=longitude, vertical=vertical, time=time, height=height, target=INERTIAL,
+    )
+    out = _convert(view, frame, INERTIAL, basis, velocity, height, celestial, dut1,
+                   latitude, longitude, vertical, time)
+    return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
 def to_rotating(
@@ -118,6 +139,7 @@ def to_rotating(
     vertical: str | None = None,
     time: str | None = None,
     grid: str = "same",
+    latitude_kind: str = "planetographic",
 ) -> xr.Dataset:
     """Inertial velocities back to velocities relative to the rotating body.
 
@@ -145,8 +167,17 @@ def to_rotating(
     """
     if _planar(frame, grid):
         return planar_to_rotating(ds, frame, velocity=velocity, grid=grid)
-    return _convert(ds, frame, ROTATING, basis, velocity, height, celestial, dut1,
-                    latitude, longitude, vertical, time)
+    if basis == "cartesian":  # positions are inertial: only the latitudes computed change
+        view, names = ds, ()
+        check_choice("latitude_kind", latitude_kind, LATITUDE_KINDS)
+    else:
+        view, names = planetographic_view(
+            require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
+            longitude=longitude, vertical=vertical, time=time, height=height, target=ROTATING,
+        )
+    out = _convert(view, frame, ROTATING, basis, velocity, height, celestial, dut1,
+                   latitude, longitude, vertical, time)
+    return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
 def _planar(frame, grid) -> bool:
@@ -171,6 +202,7 @@ def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
     check_choice("basis", basis, BASES)
     check_choice("celestial", celestial, CELESTIAL_AXES)
     check_frame(frame, Ellipsoid)
+    celestial = resolve_axes(frame, celestial)
     if target == ROTATING and basis == "cartesian":
         given = {"velocity": velocity, "height": height, "latitude": latitude,
                  "longitude": longitude, "vertical": vertical}
