@@ -271,7 +271,8 @@ def _check_cartesian(ds: xr.Dataset, name: str, celestial: str) -> None:
             found=str(var.attrs["reference_frame"]),
         )
     axes = var.attrs.get("inertial_axes")
-    if axes is not None and str(axes).lower() != celestial:
+    same = {str(axes).lower(), celestial} == {"cirs", "pole"}  # a body's own axes, either name
+    if axes is not None and str(axes).lower() != celestial and not same:
         raise ConventionError(
             f"{name!r} is on {axes} axes but celestial={celestial!r} was asked",
             variable="celestial",
