@@ -114,7 +114,7 @@ def to_inertial(
     >>> round(float(frameshift.to_inertial(ds)["u"][0]), 4)
     465.1011
     """
-    if _planar(frame, grid):
+    if _planar(frame, grid, basis):
         return planar_to_inertial(ds, frame, velocity=velocity, grid=grid)
     view, names = planetographic_view(
         require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
@@ -165,7 +165,7 @@ def to_rotating(
     >>> round(float(back["u"][0]), 9)
     10.0
     """
-    if _planar(frame, grid):
+    if _planar(frame, grid, basis):
         return planar_to_rotating(ds, frame, velocity=velocity, grid=grid)
     if basis == "cartesian":  # positions are inertial: only the latitudes computed change
         view, names = ds, ()
@@ -180,10 +180,19 @@ def to_rotating(
     return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
-def _planar(frame, grid) -> bool:
+def _planar(frame, grid, basis) -> bool:
     """True for a frame with a plane figure (a lab table); ``grid=`` is only for those."""
     check_choice("grid", grid, GRIDS)
     if isinstance(getattr(frame, "figure", None), Plane):
+        if basis != "local":
+            raise ConventionError(
+                f"frame {frame.name!r} is a plane (a lab table): its fields stay on the "
+                "table's or the lab's x/y axes, placed by grid='same' or 'fixed'; "
+                f"basis={basis!r} does not apply",
+                variable="basis",
+                expected="'local' (the default) for a plane frame",
+                found=repr(basis),
+            )
         return True
     if grid != "same":
         raise ConventionError(

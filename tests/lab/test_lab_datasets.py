@@ -159,6 +159,10 @@ def test_lab_refusals():
         frameshift.to_inertial(ds, table, velocity={"eastward": "u", "northward": "v"})
     with pytest.raises(ConventionError):
         frameshift.to_inertial(ds, table, velocity=VEL, grid="nearest")
+    with pytest.raises(ConventionError):
+        frameshift.to_inertial(ds, table, velocity=VEL, basis="cartesian")
+    with pytest.raises(ConventionError):  # grid= places lab fields only
+        frameshift.to_inertial(ds, frameshift.EARTH, grid="fixed")
     with pytest.raises(MissingInputError):
         frameshift.to_inertial(ds.isel(time=0, drop=True), table, velocity=VEL)
     lab = frameshift.to_inertial(ds, table, velocity=VEL)
