@@ -74,6 +74,18 @@ def planar_accelerations(
         ``total_x``, ``total_y``, ``total_z``, float64, m s-2, on the
         velocity's dimensions (the z parts are zero: every term lies in the
         table's plane). No standard names (the CF table has none for these).
+
+    Examples
+    --------
+    >>> import numpy as np, xarray as xr, frameshift
+    >>> ds = xr.Dataset(
+    ...     {"u": (("y", "x"), [[0.1]], {"units": "m s-1"}),
+    ...      "v": (("y", "x"), [[0.0]], {"units": "m s-1"})},
+    ...     coords={"y": ("y", [0.0], {"units": "m"}), "x": ("x", [0.2], {"units": "m"})})
+    >>> acc = planar_accelerations(ds, frameshift.RotatingTable("1 rad s-1"),
+    ...                            velocity={"x": "u", "y": "v"})
+    >>> float(acc["coriolis_y"][0, 0]), float(acc["centrifugal_x"][0, 0])  # -2Ω u, Ω² x
+    (-0.2, 0.2)
     """
     chosen = _check_terms(terms)
     layout = read_planar_layout(ds, velocity, target=None)
@@ -162,6 +174,15 @@ def free_surface(
         With ``height=``: ``surface_departure``, the measured height minus
         the solid-body surface holding the same volume over the measured area
         (the departure averages to zero over the finite points, at each time).
+
+    Examples
+    --------
+    >>> import xarray as xr, frameshift
+    >>> tank = xr.Dataset(coords={"x": ("x", [0.0, 0.3], {"units": "m"}),
+    ...                           "y": ("y", [0.0], {"units": "m"})})
+    >>> s = free_surface(tank, frameshift.RotatingTable("10 rpm"))["solid_body_surface"]
+    >>> round(float(s.sel(x=0.3, y=0.0)) * 1000, 2)  # mm above the centre
+    5.03
     """
     g = _gravity(gravity)
     x_name, y_name, time_name, length_units = read_planar_grid(ds, height)

@@ -282,10 +282,11 @@ def _fixed_grid(ds, layout, target, angle, rate, cx, cy) -> xr.Dataset:
     for name in (xdim, ydim):
         attrs = dict(ds[name].attrs)
         attrs["reference_frame"] = target
-        attrs["comment"] = (
+        note = (
             f"grid fixed in {_WHAT[target]}; values moved there by linear interpolation, "
             "missing outside the measured area"
         )
+        attrs["comment"] = f"{attrs['comment']}; {note}" if attrs.get("comment") else note
         out.variables[name].attrs = attrs
     return out
 
