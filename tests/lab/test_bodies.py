@@ -18,7 +18,7 @@ import xarray as xr
 import frameshift
 from frameshift.errors import ConventionError
 from tests.helpers import as_layout, eager_and_chunked, raise_if_dask_computes
-from tests.lab.test_body_orientation import _erfa_icrf_to_body, _mars_by_hand
+from tests.lab.reference import erfa_icrf_to_body, mars_angles_by_hand
 
 DEG_PER_DAY = math.pi / 180.0 / 86400.0  # deg/day -> rad s-1 (day of 86400 s)
 
@@ -138,8 +138,8 @@ def test_mars_on_icrf_axes_matches_pyerfa_rotations(layout):
     jd1, jd2 = erfa.dtf2d("UTC", 2026, 3, 1, 6, 0, 0.0)
     tt1, tt2 = erfa.taitt(*erfa.utctai(jd1, jd2))
     d = (tt1 - 2451545.0) + tt2
-    ra, dec, w = (math.radians(q) for q in _mars_by_hand(d, d / 36525.0))
-    m = _erfa_icrf_to_body(ra, dec, w).T
+    ra, dec, w = (math.radians(q) for q in mars_angles_by_hand(d, d / 36525.0))
+    m = erfa_icrf_to_body(ra, dec, w).T
     a = 3396.19e3
     omega = 350.891982443297 * DEG_PER_DAY
     np.testing.assert_allclose(out["position"].values[0], m @ [a, 0.0, 0.0], atol=1e-3)
