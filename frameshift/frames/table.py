@@ -133,7 +133,8 @@ def RotatingTable(
         ``units`` attribute (``"rpm"``, ``"rad s-1"``...), or a callable of
         seconds since the epoch returning rad s-1.
     center : (float, float), default (0, 0)
-        Foot of the axis in lab (and table) x, y coordinates, m.
+        Foot of the axis in lab (and table) x, y coordinates: numbers in m, or
+        lengths with units (``("5 cm", "0 cm")``).
     epoch : optional
         Time at which the angle is ``angle_at_epoch`` (default: elapsed time 0).
     angle_at_epoch : float, default 0
@@ -178,12 +179,13 @@ def RotatingTable(
 
 def _center(center) -> tuple[float, float]:
     try:
-        cx, cy = (float(c) for c in center)
-    except (TypeError, ValueError) as exc:
+        cx, cy = (_length(c) for c in center)
+    except (TypeError, ValueError, UnitsError) as exc:
         raise ConventionError(
-            f"center must be two numbers (x, y) in metres; found {center!r}",
+            f"center must be two lengths (x, y): numbers in metres or quantities such as "
+            f"'5 cm'; found {center!r}",
             variable="center",
-            expected="(x, y) in m",
+            expected="(x, y) in m, or two lengths with units",
             found=repr(center),
         ) from exc
     if not (math.isfinite(cx) and math.isfinite(cy)):
@@ -194,3 +196,18 @@ def _center(center) -> tuple[float, float]:
             found=repr(center),
         )
     return cx, cy
+
+
+def _length(value) -> float:
+    if isinstance(value, (int, float, np.number)) and not isinstance(value, bool):
+        return float(value)
+    try:
+        q = ureg.Quantity(value) if isinstance(value, str) else value
+        return float(q.to("m").magnitude)
+    except Exception as exc:
+        raise UnitsError(
+            f"{value!r} is not a length",
+            variable="center",
+            expected="a length",
+            found=repr(value),
+        ) from exc

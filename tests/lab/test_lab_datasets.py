@@ -40,6 +40,7 @@ def test_rotating_table_rates_with_units():
     cw = frameshift.RotatingTable("10 rpm", sense="clockwise")
     assert cw.rotation_rate == pytest.approx(-10 * RPM, rel=1e-15)
     assert pickle.loads(pickle.dumps(cw)) == cw
+    assert frameshift.RotatingTable("10 rpm", center=("5 cm", 0.02)).figure.center == (0.05, 0.02)
 
 
 @pytest.mark.parametrize(
