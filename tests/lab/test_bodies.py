@@ -153,8 +153,9 @@ def test_mars_on_icrf_axes_matches_pyerfa_rotations(layout):
     np.testing.assert_allclose(back["u"], 0.0, atol=1e-6)
 
 
-def test_axes_refused_where_they_do_not_apply():
-    ds = _winds([0.0])
+@eager_and_chunked
+def test_axes_refused_where_they_do_not_apply(layout):
+    ds = as_layout(_winds([0.0]), layout)
     with pytest.raises(ConventionError):
         frameshift.to_inertial(ds, frameshift.MARS, basis="cartesian", celestial="gcrs")
     with pytest.raises(ConventionError):

@@ -151,9 +151,10 @@ def test_fixed_grid_reproduces_a_linear_lab_field(layout):
     assert "x_inertial" not in out.coords
 
 
-def test_lab_refusals():
+@eager_and_chunked
+def test_lab_refusals(layout):
     table = frameshift.RotatingTable("10 rpm")
-    ds = lab_dataset()
+    ds = as_layout(lab_dataset(), layout)
     with pytest.raises(MissingInputError):
         frameshift.to_inertial(ds, table)  # no velocity= and nothing marked
     with pytest.raises(ConventionError):
@@ -173,7 +174,8 @@ def test_lab_refusals():
     bad = ds.assign(u=ds["u"].assign_attrs(units="K"))
     with pytest.raises(UnitsError):
         frameshift.to_inertial(bad, table, velocity=VEL)
-    xr.testing.assert_identical(ds, before)
+    frameshift.to_inertial(ds, table, velocity=VEL, grid="fixed")
+    xr.testing.assert_identical(ds, before)  # the input is never modified
 
 
 # --- terms on Cartesian axes -------------------------------------------------------------
@@ -204,14 +206,15 @@ def test_spin_up_gives_the_euler_term_and_steady_rotation_none(layout):
     np.testing.assert_allclose(acc2["centrifugal_x"].isel(time=0), (10 * RPM) ** 2 * xx, rtol=1e-12)
 
 
-def test_planar_terms_refuse_inertial_velocities_and_curvature():
+@eager_and_chunked
+def test_planar_terms_refuse_inertial_velocities_and_curvature(layout):
     table = frameshift.RotatingTable("10 rpm")
-    ds = lab_dataset(frame="inertial")
+    ds = as_layout(lab_dataset(frame="inertial"), layout)
     with pytest.raises(FrameError):
         frameshift.apparent_accelerations(ds, frame=table, velocity=VEL)
     with pytest.raises(ConventionError):
         frameshift.apparent_accelerations(
-            lab_dataset(), frame=table, velocity=VEL, terms=["curvature"]
+            as_layout(lab_dataset(), layout), frame=table, velocity=VEL, terms=["curvature"]
         )
 
 
