@@ -5,8 +5,10 @@ A lab Dataset names its velocity components on the tank's axes explicitly
 ``velocity_component`` marks frameshift writes. Positions are the velocity's
 coordinates with ``axis`` "X"/"Y", the CF standard names
 ``projection_x_coordinate``/``projection_y_coordinate``, or the names x and
-y, in length units; time is a decoded time coordinate (datetime64, cftime,
-timedelta64) or one with ``axis`` "T" / standard name ``time``.
+y, in length units; positions a conversion added carry ``planar_axis`` and
+``reference_frame``, and are preferred for a velocity of that frame. Time is a
+decoded time coordinate (datetime64, cftime, timedelta64) or one with ``axis``
+"T" / standard name ``time``.
 """
 
 from __future__ import annotations
@@ -211,6 +213,7 @@ def _position(ds: xr.Dataset, var: xr.DataArray | xr.Dataset, axis: str) -> str:
         attrs = coord.attrs
         if (
             attrs.get("axis") == POSITION_AXIS[axis]
+            or attrs.get("planar_axis") == axis
             or attrs.get("standard_name") == POSITION_STANDARD_NAMES[axis]
             or str(name).lower() == axis
         ):

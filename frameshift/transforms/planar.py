@@ -178,7 +178,7 @@ def _same_points(ds, layout: PlanarLayout, target, angle, rate, cx, cy) -> xr.Da
             "units": str(ds[name].attrs["units"]),
             "long_name": f"{axis} position in {_WHAT[target]}",
             "reference_frame": target,
-            "axis": axis.upper(),
+            "planar_axis": axis,  # not CF "axis": the x/y coordinates keep that
         }
         data = (data / xs).transpose(*pos_dims).data
         out = out.assign_coords({f"{name}_{target}": (pos_dims, data, attrs)})
