@@ -47,9 +47,9 @@ def frame_from_name(spec: str, ds: xr.Dataset | None = None) -> Frame:
     if key in _TABLES and rate.strip():
         rate = rate.strip()
         if ds is not None and rate in ds.variables:
-            series = ds[rate]
+            series = ds[rate].reset_coords(drop=True).compute()  # a short series, read once
             return RotatingTable(
-                series.reset_coords(drop=True) if series.ndim else series,
+                series,
                 sense=_TABLES[key],
                 name=f"rotating table ({rate})",
             )
