@@ -8,7 +8,11 @@ and the apparent-acceleration terms, each written as CF NetCDF under
 written (read back from disk) into ``<out>/figures/``, and a table gives,
 per data set, the size of each term, the largest inertial speed and the
 files written. The Cartesian conversion of ``packed_knots.nc`` is refused by
-design: its model calendar (``noleap``) has no real time. The data are
+design: its model calendar (``noleap``) has no real time. The two examples
+in ``data_demo/examples/`` take other frames (:data:`EXAMPLE_FRAMES`): a tank
+on a rotating table spun up as the file's ``table_rate`` says (its Cartesian
+step refused by design: a table's fields stay on its x/y axes) and
+cloud-tracked winds on a planet turning as Venus does. The data are
 invented; see ``data_demo/README.md``.
 """
 
@@ -48,8 +52,8 @@ __all__ = [
 
 #: The conversion steps: output folder and what the step does.
 STEPS = (
-    ("inertial_local", "Earth-rotating -> inertial frame, local east/north/up axes"),
-    ("inertial_cartesian", "Earth-rotating -> inertial frame, Cartesian x/y/z axes (CIRS)"),
+    ("inertial_local", "rotating -> inertial frame, local east/north/up axes (a table: x/y)"),
+    ("inertial_cartesian", "rotating -> inertial frame, Cartesian x/y/z axes (CIRS; POLE)"),
     ("terms", "apparent-acceleration terms"),
 )
 
