@@ -164,6 +164,7 @@ def _run(tmp: Path, ntime: int, repeats: int) -> list[Row]:
     peak = {k: max(r["peak_rss_bytes"] for r in v) for k, v in results.items()}
     cluster = _measure([*momentum, "--excitation", "--workers", "2", "--out",
                         str(tmp / "cluster")])  # fmt: skip
+    inside = _in_process(src, repeats)
     identical, worst = _compare(tmp / "chi" / src.name, tmp / "cluster" / src.name)
     sizes = (f"{size / 1e9:.2f} GB NetCDF: ua, va float32 {(ntime, *GRID)} (time, plev, lat, "
              "lon) and ps, uncompressed; default --memory")
@@ -189,7 +190,32 @@ def _run(tmp: Path, ntime: int, repeats: int) -> list[Row]:
                     {"--workers 2": cluster["wall_s"],
                      "threaded": wall["momentum --excitation"]},
                     extra={"cluster peak": f"{cluster['peak_rss_bytes'] / 1e6:.0f} MB"}))
+    rows.append(Row("B13", "in one process: integrate_angular_momentum vs reading ua, ps",
+                    sizes, reps, inside["ratio"], "compute / Dask read, same open Dataset",
+                    TARGET, verdict(inside["ratio"], at_most=1.3),
+                    {"integrate_angular_momentum(...).compute()": inside["ours"],
+                     "dask.compute(ua.sum(), ps.sum())": inside["read"]},
+                    note="no start-up, import, open or write costs: the diagnostic itself"))
     return rows
+
+
+def _in_process(src: Path, repeats: int) -> dict:
+    """The diagnostic beside a Dask read of the same variables, on one Dataset opened once."""
+    import dask
+
+    import frameshift
+    from frameshift import io
+    from tests.benchmarks.harness import median_time
+
+    ds, raw = io.open_input(src, parallel=2)
+    try:
+        ours, _ = median_time(lambda: frameshift.integrate_angular_momentum(
+            ds, surface_pressure="ps").compute(), repeats)
+        read, _ = median_time(lambda: dask.compute(ds.ua.sum(), ds.ps.sum()), repeats)
+    finally:
+        ds.close()
+        raw.close()
+    return {"ours": ours, "read": read, "ratio": ours / read}
 
 
 def _compare(a: Path, b: Path) -> tuple[bool, float]:
