@@ -93,6 +93,13 @@ def test_single_level_column_and_latitude_bands_add_up(layout):
                        surface_pressure="ps", over="latitude")
     cols = run_lazily(frameshift.integrate_angular_momentum, ds, layout, EARTH_SPHERE,
                       surface_pressure="ps", over="column")
+    # north-to-south latitudes and -180..180 longitudes (as many archives store them): same total
+    flipped = ds.isel(lat=slice(None, None, -1)).assign_coords(
+        lon=("lon", ((ds.lon.values + 180.0) % 360.0) - 180.0, ds.lon.attrs)).sortby("lon")
+    again = run_lazily(frameshift.integrate_angular_momentum, flipped, layout, EARTH_SPHERE,
+                       surface_pressure="ps")
+    np.testing.assert_allclose(float(again.angular_momentum_relative),
+                               float(glob.angular_momentum_relative), rtol=1e-12)
     assert bands.angular_momentum_relative.dims == ("lat",)
     assert cols.angular_momentum_relative.dims == ("lat", "lon")
     np.testing.assert_allclose(float(bands.angular_momentum_relative.sum()),
