@@ -73,6 +73,12 @@ def test_pole_rule_is_the_mean_over_the_cap(layout):
     mean = OMEGA * (1 + np.sin(np.deg2rad(88.0)))
     np.testing.assert_allclose(out.relative_vorticity.values[0, -1], mean, rtol=1e-12)
     np.testing.assert_allclose(out.relative_vorticity.values[0, 0], -mean, rtol=1e-12)
+    # a north-to-south grid gives the same field
+    flipped = run_lazily(frameshift.absolute_vorticity,
+                         solid_body(EARTH_SPHERE, lat, lon, 1).isel(lat=slice(None, None, -1)),
+                         layout, EARTH_SPHERE)
+    np.testing.assert_allclose(flipped.relative_vorticity.values[:, ::-1],
+                               out.relative_vorticity.values, rtol=1e-12, atol=1e-18)
 
 
 @eager_and_chunked
