@@ -18,6 +18,16 @@ from frameshift.errors import (
 )
 from frameshift.frames import EARTH, EARTH_SPHERE, Planet
 from frameshift.gravity import normal_gravity
+from frameshift.instruments import (
+    earth_to_grid,
+    from_speed_direction,
+    grid_to_earth,
+    magnetic_declination,
+    magnetic_to_true,
+    platform_to_earth,
+    to_speed_direction,
+    true_wind,
+)
 from frameshift.transforms import to_inertial, to_rotating
 
 __version__ = "0.1.0"
@@ -39,7 +49,15 @@ __all__ = [
     "__version__",
     "apparent_accelerations",
     "coriolis_parameters",
+    "earth_to_grid",
+    "from_speed_direction",
+    "grid_to_earth",
+    "magnetic_declination",
+    "magnetic_to_true",
     "normal_gravity",
+    "platform_to_earth",
     "to_inertial",
     "to_rotating",
+    "to_speed_direction",
+    "true_wind",
 ]

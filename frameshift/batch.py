@@ -54,7 +54,8 @@ _WORKER_FLOOR = 512 * 2**20
 class Operation:
     """One frameshift operation with its settings, applied file by file.
 
-    Make one with :func:`convert_operation` or :func:`terms_operation`.
+    Make one with :func:`convert_operation`, :func:`terms_operation` or
+    :func:`frameshift.instruments.command.earth_operation`.
     """
 
     command: str
@@ -68,6 +69,10 @@ class Operation:
 
             func = to_inertial if s.pop("to") == "inertial" else to_rotating
             return func(ds, **s)
+        if self.command == "earth":
+            from frameshift.instruments.command import to_earth
+
+            return to_earth(ds, **s)
         apparent_accelerations = _accelerations()
         result = apparent_accelerations(ds, **s)
         attrs = {**ds.attrs, **result.attrs}
