@@ -63,7 +63,15 @@ def model_version() -> str:
 
 
 def _days(time: xr.DataArray) -> xr.DataArray:
-    """Whole UTC days since 1970-01-01 of decoded times (datetime64 or real-calendar cftime)."""
+    """Whole UTC days since 1970-01-01 of decoded times (datetime64 or real-calendar cftime).
+
+    Dates outside the model's validity are refused; a Dask-backed datetime64
+    time stays lazy and is checked when computed.
+    """
+    if time.chunks is not None and np.issubdtype(time.dtype, np.datetime64):
+        out = apply_kernel(_checked_days, xr.DataArray(time.variable),
+                           kwargs={"name": str(time.name)})
+        return out.assign_attrs(first="(lazy)", last="(lazy)")
     values = time.values
     if np.issubdtype(values.dtype, np.datetime64):
         days = values.astype("datetime64[D]")
@@ -83,16 +91,32 @@ def _days(time: xr.DataArray) -> xr.DataArray:
             "with decode_times=True",
             variable=str(time.name), expected="datetime64 or cftime", found=str(values.dtype),
         )
-    first, last = days.min(), days.max()
+    first, last = _check_validity(days, str(time.name))
+    out = xr.DataArray(np.where(np.isnat(days), np.nan, days.astype(np.int64).astype(np.float64)),
+                       dims=time.dims)
+    return out.assign_attrs(first=str(first), last=str(last))
+
+
+def _check_validity(days: np.ndarray, name: str):
+    ok = ~np.isnat(days)
+    if not ok.any():
+        return None, None
+    first, last = days[ok].min(), days[ok].max()
     if first < _VALID[0] or last >= _VALID[1]:
         raise UnsupportedInputError(
-            f"time {time.name!r} runs from {first} to {last}, outside the validity of {MODEL} "
+            f"time {name!r} runs from {first} to {last}, outside the validity of {MODEL} "
             f"({_VALID[0]} to {_VALID[1]}); give the declination instead",
-            variable=str(time.name), expected=f"dates from {_VALID[0]} to before {_VALID[1]}",
+            variable=name, expected=f"dates from {_VALID[0]} to before {_VALID[1]}",
             found=f"{first} to {last}",
         )
-    out = xr.DataArray(days.astype(np.int64).astype(np.float64), dims=time.dims)
-    return out.assign_attrs(first=str(first), last=str(last))
+    return first, last
+
+
+def _checked_days(values, *, name):
+    days = values.astype("datetime64[D]")
+    _check_validity(days, name)
+    out = days.astype(np.int64).astype(np.float64)
+    return np.where(np.isnat(days), np.nan, out)
 
 
 def _declination_kernel(lat, lon, h, day):
@@ -158,9 +182,10 @@ def magnetic_declination(
                      "positive east)",
         "units": "degree",
         "source": model_version(),
-        "comment": f"{MODEL} main field evaluated at 00 UTC of each record's day from "
-                   f"{days.attrs['first']} to {days.attrs['last']}, {float(height):g} m "
-                   "above the WGS 84 ellipsoid",
+        "comment": f"{MODEL} main field evaluated at 00 UTC of each record's day"
+                   + ("" if days.attrs["first"] == "(lazy)" else
+                      f" from {days.attrs['first']} to {days.attrs['last']}")
+                   + f", {float(height):g} m above the WGS 84 ellipsoid",
     })
 
 
