@@ -201,7 +201,8 @@ def platform_to_earth(forward, starboard, up, heading, pitch, roll, ship_east, s
 
     Examples
     --------
-    >>> [round(float(x), 12) + 0.0 for x in platform_to_earth(1.0, 0.0, 0.0, 90.0, 0.0, 0.0, 0.0, 0.0)]
+    >>> east, north, up = platform_to_earth(1.0, 0.0, 0.0, 90.0, 0.0, 0.0, 0.0, 0.0)
+    >>> [round(float(x), 12) + 0.0 for x in (east, north, up)]
     [1.0, 0.0, 0.0]
     """
     m = platform_matrix(heading, pitch, roll)
@@ -219,7 +220,8 @@ def earth_to_platform(east, north, up, heading, pitch, roll, ship_east, ship_nor
 
     Examples
     --------
-    >>> [round(float(x), 12) + 0.0 for x in earth_to_platform(1.0, 0.0, 0.0, 90.0, 0.0, 0.0, 0.0, 0.0)]
+    >>> fwd, stbd, up = earth_to_platform(1.0, 0.0, 0.0, 90.0, 0.0, 0.0, 0.0, 0.0)
+    >>> [round(float(x), 12) + 0.0 for x in (fwd, stbd, up)]
     [1.0, 0.0, 0.0]
     """
     m = platform_matrix(heading, pitch, roll)

@@ -16,7 +16,7 @@ import xarray as xr
 
 from frameshift import cf
 from frameshift.errors import InputTypeError, MissingInputError, UnitsError, UnsupportedInputError
-from frameshift.units import parse_units, scale_to, udunits_string, ureg
+from frameshift.units import parse_units, scale_to, ureg
 
 __all__ = [
     "angle_to_degrees",

@@ -79,7 +79,8 @@ def grid_angle(
     if len(hits) == 1:
         name = hits[0]
         factor = angle_to_degrees(name, ds[name].attrs.get("units"))
-        return _radians(ds[name], factor), f"angle of the x axis from {name!r} ({criteria.ANGLE_OF_X})"
+        how = f"angle of the x axis from {name!r} ({criteria.ANGLE_OF_X})"
+        return _radians(ds[name], factor), how
     mapping = var.attrs.get("grid_mapping") or var.encoding.get("grid_mapping")
     if mapping is not None:
         return _from_grid_mapping(ds, var, str(mapping).split(":")[0].strip())

@@ -283,7 +283,8 @@ def magnetic_to_true(
         arr, units = as_input(declination, "declination", "angle")
         factor = angle_to_degrees("declination", units)
         decl = arr * factor if factor != 1.0 else arr
-        source = "given by the caller" if arr.ndim else f"{float(decl):g} degree, given by the caller"
+        source = ("given by the caller" if arr.ndim
+                  else f"{float(decl):g} degree, given by the caller")
     decl = decl.assign_attrs({"long_name": "magnetic declination (angle from true north to "
                               "magnetic north, positive east)", "units": "degree",
                               "comment": f"declination used: {source}"})

@@ -297,7 +297,7 @@ def platform_to_earth(
         else:
             comps[key] = xr.zeros_like(comps["forward"])
     notes = [] if "up" in vel else ["no upward component given; taken as 0"]
-    head, hname = _angle(ds, heading, [criteria.HEADING], "heading")
+    head, _ = _angle(ds, heading, [criteria.HEADING], "heading")
     tilt = {}
     for role, table in (("pitch", criteria.PLATFORM_PITCH), ("roll", criteria.PLATFORM_ROLL)):
         spec = pitch if role == "pitch" else roll

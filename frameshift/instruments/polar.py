@@ -323,8 +323,8 @@ def to_speed_direction(
                 "velocity speed", "speed"), "units": udunits_string(unit), "comment": source})
         outputs[out["direction"]] = _on(ds, drc, east, north).assign_attrs({
             "standard_name": dir_sn,
-            "long_name": f"direction the {_LABEL[fam]} {'comes from' if conv == 'from' else 'goes to'}"
-            ", clockwise from true north",
+            "long_name": f"direction the {_LABEL[fam]} "
+            f"{'comes from' if conv == 'from' else 'goes to'}, clockwise from true north",
             "units": "degree",
             "comment": f"{source}; a calm (zero speed) has direction 0",
         })

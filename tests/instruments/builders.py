@@ -15,10 +15,16 @@ __all__ = [
 ]
 
 POLE_LAT, POLE_LON = 39.25, -162.0
+#: CF 1.11 section 4.4.3: say how leap seconds are handled
+TIME_ATTRS = {"standard_name": "time", "units_metadata": "leap_seconds: none"}
+
+
+def _attrs(title: str, **extra: str) -> dict:
+    return {"Conventions": "CF-1.11", "title": title, **extra}
 
 
 def met_station(ntime: int = 8, *, rng_key: int = 11) -> xr.Dataset:
-    """A met station file: wind_speed + wind_from_direction, scalar lat/lon, packed-looking attrs."""
+    """A met station file: wind_speed + wind_from_direction, scalar lat/lon."""
     rng = np.random.default_rng(rng_key)
     time = np.datetime64("2027-04-01T00:00", "ns") + np.arange(ntime) * np.timedelta64(10, "m")
     speed = rng.uniform(0.0, 15.0, ntime)
@@ -34,16 +40,17 @@ def met_station(ntime: int = 8, *, rng_key: int = 11) -> xr.Dataset:
                                      "cell_methods": "time: mean"}),
             "wdir": ("time", direction, {"standard_name": "wind_from_direction",
                                          "units": "degree"}),
-            "tas": ("time", rng.normal(285, 3, ntime), {"standard_name": "air_temperature",
-                                                         "units": "K"}),
+            "tas": ("time", rng.normal(285, 3, ntime),
+                    {"standard_name": "air_temperature", "units": "K",
+                     "units_metadata": "temperature: on_scale"}),
         },
         coords={
-            "time": ("time", time, {"standard_name": "time"}),
+            "time": ("time", time, TIME_ATTRS),
             "lat": ((), 52.5, {"standard_name": "latitude", "units": "degrees_north"}),
             "lon": ((), 4.25, {"standard_name": "longitude", "units": "degrees_east"}),
             "height": ((), 10.0, {"standard_name": "height", "units": "m", "positive": "up"}),
         },
-        attrs={"Conventions": "CF-1.8", "featureType": "timeSeries"},
+        attrs=_attrs("test met station", featureType="timeSeries"),
     )
 
 
@@ -72,7 +79,7 @@ def rotated_pole_grid(nt: int = 2, ny: int = 6, nx: int = 5, *, rng_key: int = 1
             "rotated_pole": ((), 0, attrs),
         },
         coords={
-            "time": ("time", time),
+            "time": ("time", time, TIME_ATTRS),
             "rlat": ("rlat", rlat, {"standard_name": "grid_latitude", "units": "degrees",
                                     "axis": "Y"}),
             "rlon": ("rlon", rlon, {"standard_name": "grid_longitude", "units": "degrees",
@@ -82,7 +89,7 @@ def rotated_pole_grid(nt: int = 2, ny: int = 6, nx: int = 5, *, rng_key: int = 1
             "lon": (("rlat", "rlon"), lon, {"standard_name": "longitude",
                                             "units": "degrees_east"}),
         },
-        attrs={"Conventions": "CF-1.8"},
+        attrs=_attrs("test rotated-pole grid"),
     )
 
 
@@ -114,6 +121,7 @@ def projected_grid(ny: int = 5, nx: int = 7, *, rng_key: int = 13) -> xr.Dataset
             "x": ("x", x, {"standard_name": "projection_x_coordinate", "units": "km",
                            "axis": "X"}),
         },
+        attrs=_attrs("test polar-stereographic grid"),
     )
 
 
@@ -128,7 +136,7 @@ def curvilinear_grid(ny: int = 40, nx: int = 30, *, rng_key: int = 14) -> xr.Dat
 
 
 def ship_record(ntime: int = 6, *, rng_key: int = 15) -> xr.Dataset:
-    """A ship's met record: heading, course, speed over ground, and the anemometer's relative wind."""
+    """A ship's met record: heading, course, speed over ground, the anemometer's wind."""
     rng = np.random.default_rng(rng_key)
     time = np.datetime64("2031-06-10T12:00", "ns") + np.arange(ntime) * np.timedelta64(1, "m")
     return xr.Dataset(
@@ -146,13 +154,13 @@ def ship_record(ntime: int = 6, *, rng_key: int = 15) -> xr.Dataset:
                          {"long_name": "wind speed relative to the ship", "units": "m s-1"}),
         },
         coords={
-            "time": ("time", time),
+            "time": ("time", time, TIME_ATTRS),
             "lat": ("time", np.linspace(-34.0, -33.9, ntime),
                     {"standard_name": "latitude", "units": "degrees_north"}),
             "lon": ("time", np.linspace(18.0, 18.2, ntime),
                     {"standard_name": "longitude", "units": "degrees_east"}),
         },
-        attrs={"featureType": "trajectory"},
+        attrs=_attrs("test ship record"),
     )
 
 
@@ -184,7 +192,7 @@ def adcp_record(ntime: int = 5, nbin: int = 4, *, rng_key: int = 16) -> xr.Datas
                     {"standard_name": "platform_speed_wrt_ground", "units": "m s-1"}),
         },
         coords={
-            "time": ("time", time),
+            "time": ("time", time, TIME_ATTRS),
             "depth": ("depth", 8.0 + 4.0 * np.arange(nbin),
                       {"standard_name": "depth", "units": "m", "positive": "down"}),
             "lat": ("time", np.linspace(10.0, 10.1, ntime),
@@ -192,4 +200,5 @@ def adcp_record(ntime: int = 5, nbin: int = 4, *, rng_key: int = 16) -> xr.Datas
             "lon": ("time", np.linspace(-30.0, -29.9, ntime),
                     {"standard_name": "longitude", "units": "degrees_east"}),
         },
+        attrs=_attrs("test ship-mounted current profiler"),
     )

@@ -129,7 +129,7 @@ def test_bottom_track_equals_navigation_when_they_agree(layout):
 
 def test_profiler_refusals_and_notes():
     ds = adcp_record()
-    with pytest.raises(MissingInputError, match="no standard\\s+names"):
+    with pytest.raises(MissingInputError, match=r"no standard\s+names"):
         frameshift.platform_to_earth(ds, velocity=None)
     unsure = ds.assign(pitch=ds["pitch"].assign_attrs(standard_name="platform_pitch"))
     with pytest.raises(UnsupportedInputError, match="sign"):
