@@ -127,8 +127,15 @@ def _grid_coordinate(ds: xr.Dataset, var: xr.DataArray, standard_names, axis: st
 
 
 def _from_grid_mapping(ds: xr.Dataset, var: xr.DataArray, mapping: str):
-    from pyproj import CRS, Proj, Transformer
-    from pyproj.exceptions import CRSError
+    try:
+        from pyproj import CRS, Proj, Transformer
+        from pyproj.exceptions import CRSError
+    except ImportError as exc:
+        raise MissingInputError(
+            f"{var.name!r} has grid_mapping={mapping!r}: reading it needs pyproj "
+            "(pip install 'frameshift[grids]'), or give the angle with angle=",
+            variable=str(var.name), expected="pyproj installed", found="not installed",
+        ) from exc
 
     if mapping not in ds.variables:
         raise MissingInputError(
