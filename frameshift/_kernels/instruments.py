@@ -61,11 +61,17 @@ def components_to_bearing(u, v, *, sign=1.0):
     u = np.asarray(u, dtype=np.float64)
     v = np.asarray(v, dtype=np.float64)
     speed = np.hypot(u, v)
-    bearing = np.rad2deg(np.arctan2(sign * u, sign * v))
-    bearing = np.where(bearing < 0.0, bearing + 360.0, bearing + 0.0)  # + 0.0: no -0.0
-    # -1e-17 + 360 rounds to 360: the same direction as 0
-    bearing = np.where(bearing >= 360.0, bearing - 360.0, bearing)
-    bearing = np.where(speed == 0.0, 0.0, bearing)
+    # atan2(u, v) is the "to" bearing in (-180, 180]; "from" is it plus 180, in [0, 360]
+    bearing = np.rad2deg(np.arctan2(u, v))
+    bearing = np.asarray(bearing)
+    if sign < 0:
+        np.add(bearing, 180.0, out=bearing)
+        np.subtract(bearing, 360.0, out=bearing, where=bearing >= 360.0)
+    else:
+        np.add(bearing, 360.0, out=bearing, where=bearing < 0.0)
+        np.subtract(bearing, 360.0, out=bearing, where=bearing >= 360.0)  # -1e-17 + 360
+        np.add(bearing, 0.0, out=bearing)  # no -0.0
+    np.copyto(bearing, 0.0, where=speed == 0.0)
     return speed, bearing
 
 
@@ -83,6 +89,8 @@ def rotate_components(x, y, angle_rad, *, scale=1.0):
     """
     c = np.cos(angle_rad)
     s = np.sin(angle_rad)
+    if np.size(c) == 1 and np.ndim(c) <= max(np.ndim(x), np.ndim(y)):
+        c, s = float(np.ravel(c)[0]), float(np.ravel(s)[0])  # scalar: numpy's fast path
     if scale != 1.0:
         c = c * scale
         s = s * scale
@@ -162,6 +170,21 @@ def true_wind(heading, course, sog, rel_dir, rel_speed, zero_ref, *, speed_scale
     return u, v, speed, direction
 
 
+def _matrix_entries(heading_deg, pitch_deg, roll_deg):
+    """The nine entries of :func:`platform_matrix`, row by row, each on the angles' shape."""
+    psi, theta, phi = (np.deg2rad(np.asarray(a, dtype=np.float64))
+                       for a in (heading_deg, pitch_deg, roll_deg))
+    cps, sps = np.cos(psi), np.sin(psi)
+    cth, sth = np.cos(theta), np.sin(theta)
+    cph, sph = np.cos(phi), np.sin(phi)
+    sth_cps, sth_sps = sth * cps, sth * sps
+    return (
+        (cth * cps, -cph * sps + sph * sth_cps, sph * sps + cph * sth_cps),
+        (cth * sps, cph * cps + sph * sth_sps, -sph * cps + cph * sth_sps),
+        (-sth, sph * cth, cph * cth),
+    )
+
+
 def platform_matrix(heading_deg, pitch_deg, roll_deg):
     """Rotation from platform axes (forward, starboard, down) to (north, east, down).
 
@@ -170,23 +193,18 @@ def platform_matrix(heading_deg, pitch_deg, roll_deg):
     once-turned athwartship axis, then by its roll (starboard down positive)
     about the twice-turned fore-aft axis: the order in which a ship's attitude
     angles (heading, pitch, roll) are defined. Returns a ``(..., 3, 3)`` array.
+
+    Examples
+    --------
+    >>> float(platform_matrix(90.0, 0.0, 0.0)[1, 0])   # bow east: forward -> east
+    1.0
     """
-    psi, theta, phi = (np.deg2rad(np.asarray(a, dtype=np.float64))
-                       for a in (heading_deg, pitch_deg, roll_deg))
-    shape = np.broadcast_shapes(psi.shape, theta.shape, phi.shape)
-    cps, sps = np.cos(psi), np.sin(psi)
-    cth, sth = np.cos(theta), np.sin(theta)
-    cph, sph = np.cos(phi), np.sin(phi)
+    rows = _matrix_entries(heading_deg, pitch_deg, roll_deg)
+    shape = np.broadcast_shapes(*(np.shape(e) for row in rows for e in row))
     m = np.empty((*shape, 3, 3))
-    m[..., 0, 0] = cth * cps
-    m[..., 0, 1] = -cph * sps + sph * sth * cps
-    m[..., 0, 2] = sph * sps + cph * sth * cps
-    m[..., 1, 0] = cth * sps
-    m[..., 1, 1] = cph * cps + sph * sth * sps
-    m[..., 1, 2] = -sph * cps + cph * sth * sps
-    m[..., 2, 0] = -sth
-    m[..., 2, 1] = sph * cth
-    m[..., 2, 2] = cph * cth
+    for i, row in enumerate(rows):
+        for j, entry in enumerate(row):
+            m[..., i, j] = entry
     return m
 
 
@@ -205,14 +223,14 @@ def platform_to_earth(forward, starboard, up, heading, pitch, roll, ship_east, s
     >>> [round(float(x), 12) + 0.0 for x in (east, north, up)]
     [1.0, 0.0, 0.0]
     """
-    m = platform_matrix(heading, pitch, roll)
-    f = np.multiply(forward, scale)
-    s = np.multiply(starboard, scale)
-    d = -np.multiply(up, scale)
-    north = m[..., 0, 0] * f + m[..., 0, 1] * s + m[..., 0, 2] * d
-    east = m[..., 1, 0] * f + m[..., 1, 1] * s + m[..., 1, 2] * d
-    down = m[..., 2, 0] * f + m[..., 2, 1] * s + m[..., 2, 2] * d
-    return east + ship_east, north + ship_north, -down
+    (n0, n1, n2), (e0, e1, e2), (d0, d1, d2) = _matrix_entries(heading, pitch, roll)
+    if scale != 1.0:
+        forward, starboard, up = (np.multiply(a, scale) for a in (forward, starboard, up))
+    # up = -down: the third column enters with its sign flipped
+    north = n0 * forward + n1 * starboard - n2 * up + ship_north
+    east = e0 * forward + e1 * starboard - e2 * up + ship_east
+    upward = -(d0 * forward) - d1 * starboard + d2 * up
+    return east, north, upward
 
 
 def earth_to_platform(east, north, up, heading, pitch, roll, ship_east, ship_north):
