@@ -29,6 +29,7 @@ from frameshift.cf import set_conventions
 from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
 
 __all__ = [
+    "OPERATIONS",
     "Job",
     "Operation",
     "Outcome",
@@ -39,6 +40,7 @@ __all__ = [
     "find_inputs",
     "plan_jobs",
     "process",
+    "register_operation",
     "run",
     "terms_operation",
 ]
@@ -50,12 +52,29 @@ _WORKER_FLOOR = 512 * 2**20
 
 
 # --- what to do -----------------------------------------------------------------------
+#: The operations the runner knows: command name -> function(ds, **settings) -> Dataset.
+#: Capabilities add theirs with :func:`register_operation` (the command line, the
+#: runner and the demo then share it, with no chain of ifs).
+OPERATIONS: dict[str, Callable[..., xr.Dataset]] = {}
+
+
+def register_operation(command: str, function: Callable[..., xr.Dataset]) -> None:
+    """Make ``function(ds, **settings)`` the operation run for ``command``.
+
+    Examples
+    --------
+    >>> "convert" in OPERATIONS and "terms" in OPERATIONS  # registered below
+    True
+    """
+    OPERATIONS[command] = function
+
+
 @dataclass(frozen=True)
 class Operation:
     """One frameshift operation with its settings, applied file by file.
 
-    Make one with :func:`convert_operation`, :func:`terms_operation` or
-    :func:`frameshift.instruments.command.earth_operation`.
+    Make one with :func:`convert_operation`, :func:`terms_operation`, or for a
+    registered command ``Operation(command, settings)``.
     """
 
     command: str
@@ -63,21 +82,33 @@ class Operation:
 
     def apply(self, ds: xr.Dataset) -> xr.Dataset:
         """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
-        s = dict(self.settings)
-        if self.command == "convert":
-            from frameshift.transforms import to_inertial, to_rotating
+        try:
+            function = OPERATIONS[self.command]
+        except KeyError as exc:
+            raise ConventionError(
+                f"unknown operation {self.command!r}; known: {sorted(OPERATIONS)}",
+                variable="command",
+                expected=" | ".join(sorted(OPERATIONS)),
+                found=repr(self.command),
+            ) from exc
+        return function(ds, **self.settings)
 
-            func = to_inertial if s.pop("to") == "inertial" else to_rotating
-            return func(ds, **s)
-        if self.command == "earth":
-            from frameshift.instruments.command import to_earth
 
-            return to_earth(ds, **s)
-        apparent_accelerations = _accelerations()
-        result = apparent_accelerations(ds, **s)
-        attrs = {**ds.attrs, **result.attrs}
-        set_conventions(attrs)
-        return result.assign_attrs(attrs)
+def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
+    from frameshift.transforms import to_inertial, to_rotating
+
+    return (to_inertial if to == "inertial" else to_rotating)(ds, **settings)
+
+
+def _terms(ds: xr.Dataset, **settings) -> xr.Dataset:
+    result = _accelerations()(ds, **settings)
+    attrs = {**ds.attrs, **result.attrs}
+    set_conventions(attrs)
+    return result.assign_attrs(attrs)
+
+
+register_operation("convert", _convert)
+register_operation("terms", _terms)
 
 
 def convert_operation(
@@ -85,9 +116,10 @@ def convert_operation(
     *,
     basis: str = "local",
     celestial: str = "cirs",
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     dut1: float = 0.0,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
 
@@ -98,7 +130,7 @@ def convert_operation(
     """
     check_choice("to", to, ("inertial", "rotating"))
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
-                "height": height, "dut1": float(dut1)}
+                "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
     return Operation("convert", settings)
 
 
@@ -106,9 +138,10 @@ def terms_operation(
     terms: Sequence[str] | None = None,
     *,
     traditional: bool = False,
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
 
@@ -119,17 +152,39 @@ def terms_operation(
     """
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
-                "include_parameters": bool(include_parameters)}
+                "include_parameters": bool(include_parameters),
+                **_coordinate_settings(coordinates)}
     return Operation("terms", settings)
 
 
-def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
-    return dict(velocity) if velocity is not None else None
+def _mapping(velocity) -> dict[str, str] | list[dict[str, str]] | None:
+    """``velocity=`` as plain data: one mapping, or a list of them for several sets."""
+    if velocity is None:
+        return None
+    if isinstance(velocity, Mapping):
+        return dict(velocity)
+    sets = [dict(v) for v in velocity]
+    return sets[0] if len(sets) == 1 else sets
+
+
+_COORDINATE_KEYS = ("latitude", "longitude", "vertical", "time")
+
+
+def _coordinate_settings(coordinates: Mapping[str, str]) -> dict[str, str]:
+    unknown = set(coordinates) - set(_COORDINATE_KEYS)
+    if unknown:
+        raise ConventionError(
+            f"unknown coordinate option(s) {sorted(unknown)}; valid: {list(_COORDINATE_KEYS)}",
+            variable=sorted(unknown)[0],
+            expected=", ".join(_COORDINATE_KEYS),
+            found=", ".join(sorted(unknown)),
+        )
+    return {k: v for k, v in coordinates.items() if v is not None}
 
 
 def _accelerations() -> Callable[..., xr.Dataset]:
     try:
-        from frameshift.accelerations import apparent_accelerations
+        from frameshift.dynamics.accelerations import apparent_accelerations
     except ImportError as exc:
         raise MissingInputError(
             "apparent-acceleration terms are not available in this frameshift installation "
@@ -183,12 +238,14 @@ class Outcome:
     expected: str | None = None
     found: str | None = None
     seconds: float = 0.0
+    sets: int = 0
 
     def line(self) -> str:
         """One line for the summary."""
         source = ", ".join(map(str, self.job.inputs))
         if self.status == "written":
-            return f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
+            what = f"{self.sets} velocity set{'s' * (self.sets != 1)}, " if self.sets else ""
+            return f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
         if self.status == "skipped":
             return f"skipped {self.job.output}: {self.reason}"
         where = f" (variable {self.variable!r})" if self.variable else ""
@@ -387,6 +444,31 @@ def _computer(client: object | None, bar_factory: Callable) -> Callable[[object]
     return compute
 
 
+def count_sets(result: xr.Dataset, target: str | None = None) -> int:
+    """How many velocity sets an operation converted (to ``target``) or decomposed.
+
+    Counted from what the result says of itself: one Cartesian velocity, one
+    eastward (or x) component in the target frame, or one ``velocity_variables``
+    group of terms per set.
+
+    Examples
+    --------
+    >>> count_sets(xr.Dataset())
+    0
+    """
+    sets = set()
+    for name, var in result.variables.items():
+        attrs = var.attrs
+        if "rotating_frame_variables" in attrs:  # one Cartesian velocity per set
+            sets.add(("cartesian", name))
+        elif (attrs.get("velocity_component") in ("eastward", "x")
+              and attrs.get("reference_frame") == target):
+            sets.add(("local", name))
+        elif "velocity_variables" in attrs:  # a term variable names the set it came from
+            sets.add(("terms", attrs["velocity_variables"]))
+    return len(sets)
+
+
 def _key_name(key: object) -> str:
     return str(key[0] if isinstance(key, tuple) else key)
 
@@ -416,6 +498,7 @@ def process(
                                 combine=options.combine)
         try:
             result = operation.apply(ds)
+            sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw)
             io.manifest_path(job.output).unlink(missing_ok=True)
@@ -435,7 +518,7 @@ def process(
     except Exception as exc:  # one file's failure must not stop the others
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
-    return Outcome(job, "written", seconds=time.perf_counter() - start)
+    return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
 
 
 def _one_line(exc: BaseException) -> str:
@@ -444,7 +527,7 @@ def _one_line(exc: BaseException) -> str:
 
 def _provenance(result: xr.Dataset, old_history: str | None, command: str) -> xr.Dataset:
     """History gains exactly one line: date, frameshift version, command, what was done."""
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     new = str(result.attrs.get("history", ""))
     if old_history and new.startswith(str(old_history)):

@@ -149,6 +149,15 @@ def to_earth(
     return ds
 
 
+def _register() -> None:
+    from frameshift.batch import register_operation
+
+    register_operation("earth", to_earth)
+
+
+_register()
+
+
 def earth_operation(**settings: object):
     """A batch :class:`~frameshift.batch.Operation` that calls :func:`to_earth`.
 

@@ -23,6 +23,7 @@ __all__ = [
     "as_input",
     "assemble",
     "check_dataset",
+    "factor_between",
     "find_standard",
     "output_names",
     "pick",
@@ -135,6 +136,17 @@ def angle_to_degrees(name: str, units: object) -> float:
             variable=name, expected="degree", found=text,
         )
     return factor
+
+
+def factor_between(unit: pint.Unit, target: pint.Unit) -> float:
+    """The factor that turns a value in ``unit`` into ``target`` (both parsed units).
+
+    Examples
+    --------
+    >>> round(factor_between(ureg.Unit("knot"), ureg.Unit("m/s")), 6)
+    0.514444
+    """
+    return 1.0 if unit == target else float(ureg.Quantity(1.0, unit).to(target).magnitude)
 
 
 def speed_unit(name: str, units: object) -> pint.Unit:

@@ -32,6 +32,7 @@ from frameshift.instruments.common import (
     as_input,
     assemble,
     check_dataset,
+    factor_between,
     find_standard,
     output_names,
     pick,
@@ -280,7 +281,7 @@ def _keep_grid_attrs(var: xr.DataArray) -> dict:
 def _rotate(ds, first, second, angle, *, sign, names_out, family, how, operation, keep_inputs,
             grid_to_earth_: bool):
     unit = speed_unit(first, ds[first].attrs.get("units"))
-    factor = scale_to(speed_unit(second, ds[second].attrs.get("units")), unit)
+    factor = factor_between(speed_unit(second, ds[second].attrs.get("units")), unit)
     second_var = ds[second].variable if factor == 1.0 else ds[second].variable * factor
     a, b = apply_kernel(
         _turn, xr.DataArray(ds[first].variable), xr.DataArray(second_var),

@@ -25,10 +25,10 @@ from frameshift.instruments.common import (
     as_input,
     assemble,
     check_dataset,
+    factor_between,
     pick,
     speed_unit,
 )
-from frameshift.units import scale_to
 
 __all__ = ["MODEL", "magnetic_declination", "magnetic_to_true"]
 
@@ -291,7 +291,7 @@ def magnetic_to_true(
     outputs = {}
     for east, north in pairs:
         unit = speed_unit(east, ds[east].attrs.get("units"))
-        factor = scale_to(speed_unit(north, ds[north].attrs.get("units")), unit)
+        factor = factor_between(speed_unit(north, ds[north].attrs.get("units")), unit)
         nvar = ds[north] if factor == 1.0 else ds[north] * factor
         e, n = apply_kernel(_turn_clockwise, xr.DataArray(ds[east].variable),
                             xr.DataArray(nvar.variable), xr.DataArray(decl.variable),

@@ -23,12 +23,13 @@ from frameshift.instruments.common import (
     angle_to_degrees,
     as_input,
     assemble,
+    factor_between,
     find_standard,
     output_names,
     pick,
     speed_unit,
 )
-from frameshift.units import scale_to, udunits_string
+from frameshift.units import udunits_string
 
 __all__ = ["platform_to_earth", "true_wind"]
 
@@ -72,7 +73,7 @@ def _speed(ds: xr.Dataset, spec, standard_names, role: str, unit, *, required: b
     name = pick(ds, spec, standard_names, role, required=required)
     if name is None:
         return None, None
-    factor = scale_to(speed_unit(name, ds[name].attrs.get("units")), unit)
+    factor = factor_between(speed_unit(name, ds[name].attrs.get("units")), unit)
     return (ds[name] if factor == 1.0 else ds[name] * factor), name
 
 
@@ -164,7 +165,7 @@ def true_wind(
         head, cog, rel_dir, zero = (
             values[r][0] * angle_to_degrees(r, values[r][1])
             for r in ("heading", "course", "relative_direction", "zero_reference"))
-        sog = values["speed_over_ground"][0] * scale_to(
+        sog = values["speed_over_ground"][0] * factor_between(
             speed_unit("speed_over_ground", values["speed_over_ground"][1]), unit)
         rel_speed = values["relative_speed"][0]
         inputs = []

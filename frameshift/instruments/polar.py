@@ -21,12 +21,13 @@ from frameshift.instruments.common import (
     angle_to_degrees,
     assemble,
     check_dataset,
+    factor_between,
     find_standard,
     output_names,
     pick,
     speed_unit,
 )
-from frameshift.units import scale_to, udunits_string
+from frameshift.units import udunits_string
 
 __all__ = ["DEFAULT_CONVENTION", "from_speed_direction", "to_speed_direction"]
 
@@ -309,7 +310,7 @@ def to_speed_direction(
         conv = convention if convention is not None else DEFAULT_CONVENTION[fam]
         check_choice("convention", conv, ("from", "to"))
         unit = speed_unit(east, ds[east].attrs.get("units"))
-        factor = scale_to(speed_unit(north, ds[north].attrs.get("units")), unit)
+        factor = factor_between(speed_unit(north, ds[north].attrs.get("units")), unit)
         north_var = ds[north].variable if factor == 1.0 else ds[north].variable * factor
         spd, drc = apply_kernel(
             _to_polar, xr.DataArray(ds[east].variable), xr.DataArray(north_var),
