@@ -49,8 +49,9 @@ def _fd_angle(crs_attrs, gx, gy, *, sphere: bool):
     return np.deg2rad(90.0 - az)
 
 
-def test_rotated_pole_angle_matches_pyproj_differences():
-    ds = rotated_pole_grid()
+@eager_and_chunked
+def test_rotated_pole_angle_matches_pyproj_differences(layout):
+    ds = as_layout(rotated_pole_grid(), layout)
     angle, how = grid_angle(ds, "uas")
     assert "rotated pole" in how
     rlon, rlat = np.meshgrid(ds["rlon"].values, ds["rlat"].values)
@@ -59,10 +60,11 @@ def test_rotated_pole_angle_matches_pyproj_differences():
                                atol=1e-6)
 
 
-def test_projected_angle_matches_pyproj_differences():
+@eager_and_chunked
+def test_projected_angle_matches_pyproj_differences(layout):
     # polar stereographic (conformal): PROJ's grid convergence against the azimuth of a 1 m
     # step along x on the WGS 84 ellipsoid (pyproj.Geod)
-    ds = projected_grid()
+    ds = as_layout(projected_grid(), layout)
     angle, how = grid_angle(ds, "uo")
     assert "convergence" in how
     xx, yy = np.meshgrid(ds["x"].values * 1000.0, ds["y"].values * 1000.0)
@@ -71,11 +73,13 @@ def test_projected_angle_matches_pyproj_differences():
                                atol=1e-6)
 
 
-def test_curvilinear_angle_from_latlon_matches_the_rotated_pole():
+@eager_and_chunked
+def test_curvilinear_angle_from_latlon_matches_the_rotated_pole(layout):
     # the same geometry without a grid mapping: centred differences of great-circle
     # bearings on a 1.1 x 0.6 degree grid approach the exact rotated-pole angle
     exact, _ = grid_angle(rotated_pole_grid(nt=1, ny=40, nx=30, rng_key=14), "uas")
-    approx, how = grid_angle(curvilinear_grid(), "uas")
+    with raise_if_dask_computes():
+        approx, how = grid_angle(as_layout(curvilinear_grid(), layout), "uas")
     assert "centred differences" in how and "'i'" in how
     err = np.abs(_wrap(exact.transpose("rlat", "rlon").values - approx.values))
     assert err[:, 1:-1].max() < 2e-4  # interior: second order
@@ -112,8 +116,9 @@ def test_rotated_winds_reach_to_inertial(layout):
     assert inertial["eastward_wind"].attrs["reference_frame"] == "inertial"
 
 
-def test_angle_variable_wins_and_angle_argument():
-    ds = rotated_pole_grid()
+@eager_and_chunked
+def test_angle_variable_wins_and_angle_argument(layout):
+    ds = as_layout(rotated_pole_grid(), layout)
     alpha = xr.full_like(ds["uas"].isel(time=0, drop=True), 90.0).assign_attrs(
         standard_name="angle_of_rotation_from_east_to_x", units="degree")
     out = frameshift.grid_to_earth(ds.assign(alpha=alpha))
@@ -125,16 +130,18 @@ def test_angle_variable_wins_and_angle_argument():
                                ds["uas"], atol=1e-12)
 
 
-def test_staggered_components_are_refused_with_a_how_to():
-    ds = rotated_pole_grid()
+@eager_and_chunked
+def test_staggered_components_are_refused_with_a_how_to(layout):
+    ds = as_layout(rotated_pole_grid(), layout)
     stag = ds.assign(vas=ds["vas"].rename(rlat="rlat_v"))
     with pytest.raises(UnsupportedInputError, match="staggered") as info:
         frameshift.grid_to_earth(stag)
     assert "rolling" in str(info.value)
 
 
-def test_non_conformal_projection_and_missing_geometry_are_refused():
-    ds = projected_grid()
+@eager_and_chunked
+def test_non_conformal_projection_and_missing_geometry_are_refused(layout):
+    ds = as_layout(projected_grid(), layout)
     ds["crs"].attrs = {"grid_mapping_name": "lambert_azimuthal_equal_area",
                        "longitude_of_projection_origin": 0.0,
                        "latitude_of_projection_origin": 90.0}
@@ -143,4 +150,4 @@ def test_non_conformal_projection_and_missing_geometry_are_refused():
     bare = xr.Dataset({"u": ("x", [1.0], {"standard_name": "x_wind", "units": "m s-1"}),
                        "v": ("x", [1.0], {"standard_name": "y_wind", "units": "m s-1"})})
     with pytest.raises(MissingInputError, match="angle_of_rotation_from_east_to_x"):
-        frameshift.grid_to_earth(bare)
+        frameshift.grid_to_earth(as_layout(bare, layout))

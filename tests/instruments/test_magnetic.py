@@ -56,9 +56,11 @@ def test_toward_magnetic_north_with_plus_ten_points_to_ten_true(layout):
     assert "given by the caller" in out["u"].attrs["magnetic_declination_source"]
 
 
-def test_per_record_declination_variable_and_wrap():
+@eager_and_chunked
+def test_per_record_declination_variable_and_wrap(layout):
     ds = _mooring().assign(decl=("time", [-5.0, 5.0, 20.0, -20.0], {"units": "degree"}))
-    ds["cdir"] = ds["cdir"] + 355.0
+    ds["cdir"] = (ds["cdir"] + 355.0).assign_attrs(ds["cdir"].attrs)
+    ds = as_layout(ds, layout)
     out = frameshift.magnetic_to_true(ds, declination="decl", directions=["cdir"])
     np.testing.assert_allclose(out["cdir"], [350.0, 0.0, 15.0, 335.0], atol=1e-12)
     assert set(out["cdir"].values) <= set(np.arange(0.0, 360.0, 5.0))
@@ -80,7 +82,8 @@ def test_model_declination_against_published_wmm2025_values(layout):
 
 
 @pytest.mark.filterwarnings("ignore:'where' used without 'out':UserWarning")
-def test_model_declination_agrees_with_ppigrf_own_function():
+@eager_and_chunked
+def test_model_declination_agrees_with_ppigrf_own_function(layout):
     import datetime as dt
 
     import ppigrf
@@ -94,13 +97,16 @@ def test_model_declination_agrees_with_ppigrf_own_function():
         "lat": ("p", lat, {"standard_name": "latitude"}),
         "lon": ("p", lon, {"standard_name": "longitude"}),
     })
-    np.testing.assert_allclose(frameshift.magnetic_declination(ds), np.ravel(expected),
+    np.testing.assert_allclose(frameshift.magnetic_declination(as_layout(ds, layout)),
+                               np.ravel(expected),
                                atol=1e-9)
 
 
-def test_model_chain_records_model_and_epoch():
-    ds = _mooring()
-    out = frameshift.magnetic_to_true(ds, declination="model")
+@eager_and_chunked
+def test_model_chain_records_model_and_epoch(layout):
+    ds = as_layout(_mooring(), layout)
+    with raise_if_dask_computes():
+        out = frameshift.magnetic_to_true(ds, declination="model")
     source = out["u"].attrs["magnetic_declination_source"]
     assert "IGRF-14" in source and "2027-03-01" in source and "2027-03-02" in source
     assert "magnetic_declination" in out and out["magnetic_declination"].attrs["units"] == "degree"
@@ -111,15 +117,17 @@ def test_model_chain_records_model_and_epoch():
 
 
 @pytest.mark.parametrize("when", ["1899-12-31", "2030-01-01"])
-def test_dates_outside_the_model_are_refused(when):
+@eager_and_chunked
+def test_dates_outside_the_model_are_refused(when, layout):
     with pytest.raises(UnsupportedInputError, match="validity of IGRF-14"):
-        frameshift.magnetic_to_true(_mooring(when, n=1), declination="model")
+        frameshift.magnetic_to_true(as_layout(_mooring(when, n=1), layout), declination="model")
 
 
-def test_unmarked_and_model_calendar_inputs_are_refused():
-    ds = met_station()
+@eager_and_chunked
+def test_unmarked_and_model_calendar_inputs_are_refused(layout):
+    ds = as_layout(met_station(), layout)
     with pytest.raises(MissingInputError, match="north_reference"):
         frameshift.magnetic_to_true(ds, declination=3.0)
-    noleap = _mooring().convert_calendar("noleap")
+    noleap = as_layout(_mooring().convert_calendar("noleap"), layout)
     with pytest.raises(FrameshiftError, match="model calendar"):
         frameshift.magnetic_to_true(noleap, declination="model")

@@ -57,18 +57,22 @@ def test_ship_record_true_wind(layout):
     assert inertial["eastward_wind"].attrs["reference_frame"] == "inertial"
 
 
-def test_true_wind_from_values_with_units():
+@eager_and_chunked
+def test_true_wind_from_values_with_units(layout):
     # ship stationary: heading 30, relative from 60 at 10 knots -> true wind from 90
-    out = frameshift.true_wind(ureg.Quantity(30.0, "degree"), 0.0, ureg.Quantity(0.0, "knot"),
-                               xr.DataArray([60.0], dims="t", attrs={"units": "degree"}),
-                               xr.DataArray([10.0], dims="t", attrs={"units": "knot"}))
+    rel = as_layout(xr.Dataset({"d": ("t", [60.0, 60.0], {"units": "degree"}),
+                                "s": ("t", [10.0, 10.0], {"units": "knot"})}), layout)
+    with raise_if_dask_computes():
+        out = frameshift.true_wind(ureg.Quantity(30.0, "degree"), 0.0,
+                                   ureg.Quantity(0.0, "knot"), rel["d"], rel["s"])
     assert float(out["wind_from_direction"][0]) == pytest.approx(90.0, abs=1e-9)
     assert float(out["wind_speed"][0]) == pytest.approx(10.0, abs=1e-12)
     assert out["wind_speed"].attrs["units"] == "knot"
 
 
-def test_true_wind_refusals():
-    ds = ship_record()
+@eager_and_chunked
+def test_true_wind_refusals(layout):
+    ds = as_layout(ship_record(), layout)
     with pytest.raises(MissingInputError, match="no standard name"):
         frameshift.true_wind(ds)
     yaw = ds.rename(heading="yaw")
@@ -127,8 +131,9 @@ def test_bottom_track_equals_navigation_when_they_agree(layout):
     assert "bottom track" in bot["eastward_sea_water_velocity"].attrs["comment"]
 
 
-def test_profiler_refusals_and_notes():
-    ds = adcp_record()
+@eager_and_chunked
+def test_profiler_refusals_and_notes(layout):
+    ds = as_layout(adcp_record(), layout)
     with pytest.raises(MissingInputError, match=r"no standard\s+names"):
         frameshift.platform_to_earth(ds, velocity=None)
     unsure = ds.assign(pitch=ds["pitch"].assign_attrs(standard_name="platform_pitch"))

@@ -88,9 +88,11 @@ def test_currents_default_to_the_to_convention(layout):
     np.testing.assert_allclose(wind["sea_water_velocity_from_direction"].values, [270.0, 0.0])
 
 
-def test_direction_without_convention_is_refused():
+@eager_and_chunked
+def test_direction_without_convention_is_refused(layout):
     ds = xr.Dataset({"spd": ("t", [3.0], {"standard_name": "wind_speed", "units": "m s-1"}),
                      "dir": ("t", [10.0], {"units": "degree"})})
+    ds = as_layout(ds, layout)
     with pytest.raises(ConventionError) as info:
         frameshift.from_speed_direction(ds, direction="dir")
     assert "convention='from'" in str(info.value) and "convention='to'" in str(info.value)
@@ -98,8 +100,9 @@ def test_direction_without_convention_is_refused():
     assert out["northward_wind"].values[0] == pytest.approx(3 * np.cos(np.deg2rad(10.0)))
 
 
-def test_contradicting_convention_and_bad_units_are_refused():
-    ds = met_station()
+@eager_and_chunked
+def test_contradicting_convention_and_bad_units_are_refused(layout):
+    ds = as_layout(met_station(), layout)
     with pytest.raises(ConventionError, match="contradicts"):
         frameshift.from_speed_direction(ds, convention="to")
     bad = ds.assign(wdir=ds["wdir"].assign_attrs(units="degrees_north"))
@@ -109,8 +112,10 @@ def test_contradicting_convention_and_bad_units_are_refused():
         frameshift.from_speed_direction(ds[["tas"]])
 
 
-def test_output_name_clash_is_refused_and_names_choose():
+@eager_and_chunked
+def test_output_name_clash_is_refused_and_names_choose(layout):
     ds = met_station().assign(eastward_wind=("time", np.zeros(8), {"units": "1"}))
+    ds = as_layout(ds, layout)
     with pytest.raises(FrameshiftError, match="already taken"):
         frameshift.from_speed_direction(ds)
     out = frameshift.from_speed_direction(ds, names={"eastward": "U10", "northward": "V10"},
@@ -118,8 +123,9 @@ def test_output_name_clash_is_refused_and_names_choose():
     assert {"U10", "V10", "wspd", "wdir"} <= set(out.data_vars)
 
 
-def test_accessor_delegates():
-    ds = met_station()
+@eager_and_chunked
+def test_accessor_delegates(layout):
+    ds = as_layout(met_station(), layout)
     xr.testing.assert_identical(
         ds.frameshift.from_speed_direction().drop_attrs(),
         frameshift.from_speed_direction(ds).drop_attrs(),
