@@ -105,11 +105,10 @@ def _radians(arr: xr.DataArray, to_deg: float) -> xr.DataArray:
 def _geo(ds: xr.Dataset, var: xr.DataArray, axis: str) -> xr.DataArray | None:
     """The true latitude or longitude on ``var``'s dimensions, if the Dataset has one."""
     units = "degrees_north" if axis == "latitude" else "degrees_east"
-    for name, v in {**dict(var.coords), **dict(ds.coords), **dict(ds.data_vars)}.items():
+    for v in {**dict(var.coords), **dict(ds.coords), **dict(ds.data_vars)}.values():
         if (v.attrs.get("standard_name") == axis or v.attrs.get("units") == units) and (
             v.ndim >= 1 and set(v.dims) <= set(var.dims)
         ):
-            del name
             return v
     return None
 
@@ -129,8 +128,7 @@ def _grid_coordinate(ds: xr.Dataset, var: xr.DataArray, standard_names, axis: st
 
 def _from_grid_mapping(ds: xr.Dataset, var: xr.DataArray, mapping: str):
     try:
-        from pyproj import CRS, Proj, Transformer
-        from pyproj.exceptions import CRSError
+        from pyproj.exceptions import CRSError, ProjError
     except ImportError as exc:
         raise MissingInputError(
             f"{var.name!r} has grid_mapping={mapping!r}: reading it needs pyproj "
@@ -144,6 +142,22 @@ def _from_grid_mapping(ds: xr.Dataset, var: xr.DataArray, mapping: str):
             variable=str(var.name), expected="a grid mapping variable", found=mapping,
         )
     attrs = dict(ds[mapping].attrs)
+    kind = attrs.get("grid_mapping_name")
+    try:
+        return _angle_from_crs(ds, var, mapping, attrs)
+    except (CRSError, ProjError, KeyError, TypeError, ValueError) as exc:
+        if isinstance(exc, UnsupportedInputError | MissingInputError):
+            raise
+        raise UnsupportedInputError(
+            f"grid mapping {mapping!r} ({kind}) could not be used: {exc}",
+            variable=mapping, expected="a CF grid mapping pyproj understands", found=str(kind),
+        ) from exc
+
+
+def _angle_from_crs(ds: xr.Dataset, var: xr.DataArray, mapping: str, attrs: dict):
+    from pyproj import CRS, Proj, Transformer
+    from pyproj.exceptions import CRSError
+
     kind = attrs.get("grid_mapping_name")
     try:
         crs = CRS.from_cf(attrs)
@@ -261,16 +275,23 @@ def _family_of_grid(sn: str | None) -> tuple[str, int] | None:
 
 
 def _check_same_points(ds: xr.Dataset, a: str, b: str) -> None:
-    if ds[a].dims != ds[b].dims or any(ds[a].sizes[d] != ds[b].sizes[d] for d in ds[a].dims):
-        raise UnsupportedInputError(
-            f"{a!r} {ds[a].dims} and {b!r} {ds[b].dims} are not on the same points (a staggered "
-            "grid, with components on u- and v-points?). Bring them to common points first, "
-            "e.g. the cell centres by averaging neighbours: "
-            "ds[a].rolling(x_u=2).mean().isel(x_u=slice(1, None)) for each staggered dimension, "
-            "then rename the dimensions to the centres' and pass the result",
-            variable=a, expected="components on the same dimensions",
-            found=f"{ds[a].dims} and {ds[b].dims}",
-        )
+    if ds[a].dims == ds[b].dims and all(ds[a].sizes[d] == ds[b].sizes[d] for d in ds[a].dims):
+        return
+    only_a = [d for d in ds[a].dims if d not in ds[b].dims]
+    only_b = [d for d in ds[b].dims if d not in ds[a].dims]
+    hint = ""
+    if only_a and only_b:
+        hint = (f" For example, average each staggered component over its two neighbours, "
+                f"ds[{a!r}].rolling({only_a[0]}=2).mean().isel({only_a[0]}=slice(1, None)), "
+                f"likewise {b!r} along {only_b[0]!r}, rename both to the cell-centre "
+                "dimensions, and pass the result")
+    raise UnsupportedInputError(
+        f"{a!r} {ds[a].dims} and {b!r} {ds[b].dims} are not on the same points (a staggered "
+        "grid, with components on u- and v-points?). Bring them to common points first, "
+        "e.g. the cell centres by averaging neighbours." + hint,
+        variable=a, expected="components on the same dimensions",
+        found=f"{ds[a].dims} and {ds[b].dims}",
+    )
 
 
 def _keep_grid_attrs(var: xr.DataArray) -> dict:
