@@ -57,6 +57,9 @@ TERMS = ("coriolis", "centrifugal", "euler", "curvature", "total")
 #: Components to use where a demo file holds more than one velocity set.
 _VELOCITY = {"packed_knots.nc": {"eastward": "wspd_u", "northward": "wspd_v"}}
 
+#: Instrument records, brought to Earth-relative east/north first (as ``frameshift earth``).
+_EARTH_FIRST = {"ship_met.nc": {"relative_wind": {"direction": "rel_wdir", "speed": "rel_wspd"}}}
+
 #: Steps refused by design, and the (variable, found) of the refusal: the ``noleap``
 #: calendar has no real time, which Cartesian axes need. Any other failure is a failure.
 _REFUSED_BY_DESIGN = {("packed_knots.nc", "inertial_cartesian"): ("time", "noleap")}
@@ -190,10 +193,16 @@ def format_value(value: float | None, kind: str) -> str:
 def _operation(step: str, name: str) -> batch.Operation:
     velocity = _VELOCITY.get(name)
     if step == "inertial_local":
-        return batch.convert_operation("inertial", velocity=velocity)
-    if step == "inertial_cartesian":
-        return batch.convert_operation("inertial", basis="cartesian", velocity=velocity)
-    return batch.terms_operation(velocity=velocity)
+        operation = batch.convert_operation("inertial", velocity=velocity)
+    elif step == "inertial_cartesian":
+        operation = batch.convert_operation("inertial", basis="cartesian", velocity=velocity)
+    else:
+        operation = batch.terms_operation(velocity=velocity)
+    if name in _EARTH_FIRST:
+        from frameshift.instruments.command import earth_first
+
+        return earth_first(_EARTH_FIRST[name], operation)
+    return operation
 
 
 def run(

@@ -24,8 +24,8 @@ from frameshift.instruments.magnetic import magnetic_to_true
 from frameshift.instruments.platform import platform_to_earth, true_wind
 from frameshift.instruments.polar import from_speed_direction
 
-__all__ = ["EPILOG", "add_arguments", "earth_operation", "operation_from_args", "parse_pairs",
-           "to_earth"]
+__all__ = ["EPILOG", "add_arguments", "earth_first", "earth_operation", "operation_from_args",
+           "parse_pairs", "then_operation", "to_earth"]
 
 EPILOG = """\
 examples:
@@ -149,10 +149,39 @@ def to_earth(
     return ds
 
 
+def then_operation(
+    ds: xr.Dataset, *, earth: Mapping[str, object], then: str, settings: Mapping[str, object]
+) -> xr.Dataset:
+    """:func:`to_earth` with ``earth``, then the registered operation ``then`` with ``settings``.
+
+    What the demo runs on an instrument record before each of its steps.
+    """
+    from frameshift.batch import OPERATIONS
+
+    return OPERATIONS[then](to_earth(ds, **earth), **settings)
+
+
+def earth_first(earth: Mapping[str, object], operation):
+    """The batch operation that brings a file to Earth-relative east/north, then runs ``operation``.
+
+    Examples
+    --------
+    >>> from frameshift import batch
+    >>> op = earth_first({"declination": 3.0}, batch.terms_operation())
+    >>> op.command, op.settings["then"]
+    ('earth_then', 'terms')
+    """
+    from frameshift.batch import Operation
+
+    return Operation("earth_then", {"earth": dict(earth), "then": operation.command,
+                                    "settings": dict(operation.settings)})
+
+
 def _register() -> None:
     from frameshift.batch import register_operation
 
     register_operation("earth", to_earth)
+    register_operation("earth_then", then_operation)
 
 
 _register()
