@@ -63,7 +63,18 @@ def test_earth_command_writes_clean_earth_relative_files(files, tmp_path):
     assert main(["earth", str(files["adcp"]), "--platform",
                  "forward=vel_fwd,starboard=vel_stbd,up=vel_up", "--out", str(out / "adcp"),
                  "--quiet"]) == 0
+    assert main(["earth", str(files["station"]), "--declination", "-12.5", "--magnetic", "wdir",
+                 "--out", str(out / "named"), "--quiet"]) == 0
+    with xr.open_dataset(out / "named" / "station.nc") as named, \
+            xr.open_dataset(out / "station.nc") as plain:
+        # a wind from magnetic d is from true d - 12.5 (declination 12.5 degrees west)
+        turned = np.deg2rad(-12.5)
+        u, v = plain["eastward_wind"], plain["northward_wind"]
+        np.testing.assert_allclose(named["eastward_wind"], u * np.cos(turned) + v * np.sin(turned),
+                                   atol=1e-9)
+        assert float(named["magnetic_declination"]) == -12.5
     expected = {
+        "named/station.nc": "eastward_wind",
         "station.nc": "eastward_wind", "rotated.nc": "eastward_wind",
         "projected.nc": "eastward_sea_water_velocity", "mag/magnetic.nc": "eastward_wind",
         "ship/ship.nc": "eastward_wind", "adcp/adcp.nc": "eastward_sea_water_velocity",
