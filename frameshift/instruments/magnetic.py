@@ -125,6 +125,15 @@ def _declination_kernel(lat, lon, h, day):
     lat, lon, h, day = np.broadcast_arrays(lat, lon, h, day)
     out = np.full(lat.shape, np.nan)
     ok = np.isfinite(lat) & np.isfinite(lon) & np.isfinite(h) & np.isfinite(day)
+    if not ok.any():
+        return out
+    places = np.unique(np.stack([lat[ok], lon[ok], h[ok]]), axis=1)
+    if places.shape[1] == 1:  # one place (a mooring, a station): one call for all its days
+        days, where = np.unique(day[ok], return_inverse=True)
+        whens = [_dt.datetime(1970, 1, 1) + _dt.timedelta(days=float(d)) for d in days]
+        be, bn, _ = ppigrf.igrf(places[1, 0], places[0, 0], places[2, 0] / 1000.0, whens)
+        out[ok] = np.rad2deg(np.arctan2(np.ravel(be), np.ravel(bn)))[where]
+        return out
     for d in np.unique(day[ok]):
         sel = ok & (day == d)
         when = _dt.datetime(1970, 1, 1) + _dt.timedelta(days=float(d))

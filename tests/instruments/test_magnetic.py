@@ -131,3 +131,21 @@ def test_unmarked_and_model_calendar_inputs_are_refused(layout):
     noleap = as_layout(_mooring().convert_calendar("noleap"), layout)
     with pytest.raises(FrameshiftError, match="model calendar"):
         frameshift.magnetic_to_true(noleap, declination="model")
+
+
+@eager_and_chunked
+def test_one_place_many_days_equals_day_by_day(layout):
+    # the one-call path for a fixed place gives what the day-by-day path gives
+    days = np.array(["2026-02-01", "2027-08-15", "2029-12-31"], dtype="datetime64[ns]")
+    fixed = xr.Dataset(coords={"time": ("time", days),
+                               "lat": ((), 47.3, {"standard_name": "latitude"}),
+                               "lon": ((), -38.65, {"standard_name": "longitude"})})
+    moving = xr.Dataset(coords={"time": ("time", np.concatenate([days, days[:1]])),
+                                "lat": ("time", [47.3, 47.3, 47.3, -10.0],
+                                        {"standard_name": "latitude"}),
+                                "lon": ("time", [-38.65, -38.65, -38.65, 120.0],
+                                        {"standard_name": "longitude"})})
+    one = frameshift.magnetic_declination(as_layout(fixed, layout)).values
+    many = frameshift.magnetic_declination(as_layout(moving, layout)).values
+    np.testing.assert_allclose(one, many[:3], atol=1e-12)
+    assert abs(many[3] - one[0]) > 1.0  # another place, another declination
