@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import argparse
 from collections.abc import Mapping, Sequence
+from typing import TYPE_CHECKING
 
 import xarray as xr
 
@@ -23,6 +24,9 @@ from frameshift.instruments.grid import grid_to_earth
 from frameshift.instruments.magnetic import magnetic_to_true
 from frameshift.instruments.platform import platform_to_earth, true_wind
 from frameshift.instruments.polar import from_speed_direction
+
+if TYPE_CHECKING:
+    from frameshift.batch import Operation
 
 __all__ = ["EPILOG", "add_arguments", "earth_first", "earth_operation", "operation_from_args",
            "parse_pairs", "then_operation", "to_earth"]
@@ -155,13 +159,25 @@ def then_operation(
     """:func:`to_earth` with ``earth``, then the registered operation ``then`` with ``settings``.
 
     What the demo runs on an instrument record before each of its steps.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> ds = xr.Dataset({"ws": ((), 2.0, {"standard_name": "wind_speed", "units": "m s-1"}),
+    ...                  "wd": ((), 0.0, {"standard_name": "wind_from_direction",
+    ...                                   "units": "degree"})},
+    ...                 coords={"lat": ((), 45.0, {"standard_name": "latitude"}),
+    ...                         "lon": ((), 5.0, {"standard_name": "longitude"})})
+    >>> out = then_operation(ds, earth={}, then="terms", settings={})
+    >>> "coriolis_eastward" in out
+    True
     """
     from frameshift.batch import OPERATIONS
 
     return OPERATIONS[then](to_earth(ds, **earth), **settings)
 
 
-def earth_first(earth: Mapping[str, object], operation):
+def earth_first(earth: Mapping[str, object], operation: Operation) -> Operation:
     """The batch operation that brings a file to Earth-relative east/north, then runs ``operation``.
 
     Examples
@@ -187,7 +203,7 @@ def _register() -> None:
 _register()
 
 
-def earth_operation(**settings: object):
+def earth_operation(**settings: object) -> Operation:
     """A batch :class:`~frameshift.batch.Operation` that calls :func:`to_earth`.
 
     Examples
@@ -203,7 +219,15 @@ def earth_operation(**settings: object):
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    """The options of ``frameshift earth`` (inputs, --out and the run options come from cli)."""
+    """The options of ``frameshift earth`` (inputs, --out and the run options come from cli).
+
+    Examples
+    --------
+    >>> parser = argparse.ArgumentParser()
+    >>> add_arguments(parser)
+    >>> parser.parse_args(["--declination", "model"]).declination
+    'model'
+    """
     parser.add_argument("--speed", default=None, metavar="VARIABLE",
                         help="speed variable (default: found by standard name)")
     parser.add_argument("--direction", default=None, metavar="VARIABLE",
@@ -234,8 +258,17 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         "else the last dimension)")
 
 
-def operation_from_args(args: argparse.Namespace):
-    """The batch operation for parsed ``frameshift earth`` arguments."""
+def operation_from_args(args: argparse.Namespace) -> Operation:
+    """The batch operation for parsed ``frameshift earth`` arguments.
+
+    Examples
+    --------
+    >>> parser = argparse.ArgumentParser()
+    >>> add_arguments(parser)
+    >>> args = parser.parse_args(["--relative-wind", "direction=rd,speed=rs"])
+    >>> operation_from_args(args).settings["relative_wind"]
+    {'direction': 'rd', 'speed': 'rs'}
+    """
     axes = ("forward", "starboard", "up")
     return earth_operation(
         speed=args.speed, direction=args.direction, convention=args.convention,

@@ -36,7 +36,13 @@ _GEOGRAPHIC_UNITS = ("north", "east", "_n", "_e", "degreen", "degreee")
 
 
 def check_dataset(ds: object, name: str = "ds") -> xr.Dataset:
-    """Return ``ds`` if it is a Dataset; raise :class:`InputTypeError` naming what it is."""
+    """Return ``ds`` if it is a Dataset; raise :class:`InputTypeError` naming what it is.
+
+    Examples
+    --------
+    >>> len(check_dataset(xr.Dataset()).data_vars)
+    0
+    """
     if not isinstance(ds, xr.Dataset):
         raise InputTypeError(
             f"{name}: expected an xarray.Dataset; found {type(ds).__name__}. "
@@ -49,7 +55,14 @@ def check_dataset(ds: object, name: str = "ds") -> xr.Dataset:
 
 
 def find_standard(ds: xr.Dataset, names: Iterable[str]) -> list[str]:
-    """Names of the data variables (then coordinates) whose standard_name is in ``names``."""
+    """Names of the data variables (then coordinates) whose standard_name is in ``names``.
+
+    Examples
+    --------
+    >>> ds = xr.Dataset({"ws": ((), 1.0, {"standard_name": "wind_speed"})})
+    >>> find_standard(ds, ["wind_speed", "sea_water_speed"])
+    ['ws']
+    """
     wanted = set(names)
     hits = [str(n) for n, v in ds.data_vars.items() if v.attrs.get("standard_name") in wanted]
     if not hits:
@@ -64,6 +77,12 @@ def pick(ds: xr.Dataset, spec: object, standard_names: Iterable[str], role: str,
     Raises :class:`MissingInputError` when a given name is absent, when none
     is found (if ``required``), and :class:`UnsupportedInputError` when more
     than one is found.
+
+    Examples
+    --------
+    >>> ds = xr.Dataset({"ws": ((), 1.0, {"standard_name": "wind_speed"})})
+    >>> pick(ds, None, ["wind_speed"], "speed"), pick(ds, "ws", [], "speed")
+    ('ws', 'ws')
     """
     names = tuple(standard_names)
     if spec is not None:
@@ -150,7 +169,13 @@ def factor_between(unit: pint.Unit, target: pint.Unit) -> float:
 
 
 def speed_unit(name: str, units: object) -> pint.Unit:
-    """The parsed speed unit of variable ``name`` (raises :class:`UnitsError`)."""
+    """The parsed speed unit of variable ``name`` (raises :class:`UnitsError`).
+
+    Examples
+    --------
+    >>> speed_unit("U", "cm s-1")
+    <Unit('centimeter / second')>
+    """
     return parse_units(name, units, "speed")
 
 
@@ -159,6 +184,11 @@ def as_input(value: object, role: str, kind: str) -> tuple[xr.DataArray, str]:
 
     Numbers are taken as degrees (``kind="angle"``) or m s-1 (``kind="speed"``).
     Returns the DataArray and the units string it carries.
+
+    Examples
+    --------
+    >>> as_input(3.0, "heading", "angle")[1]
+    'degree'
     """
     if isinstance(value, xr.DataArray):
         units = value.attrs.get("units")
@@ -182,7 +212,14 @@ def as_input(value: object, role: str, kind: str) -> tuple[xr.DataArray, str]:
 
 
 def output_names(defaults: Mapping[str, str], names: Mapping[str, str] | None) -> dict[str, str]:
-    """The variable names of the outputs: the defaults, overridden by ``names``."""
+    """The variable names of the outputs: the defaults, overridden by ``names``.
+
+    Examples
+    --------
+    >>> output_names({"eastward": "eastward_wind", "northward": "northward_wind"},
+    ...              {"eastward": "U"})
+    {'eastward': 'U', 'northward': 'northward_wind'}
+    """
     out = dict(defaults)
     if names is None:
         return out
@@ -217,6 +254,14 @@ def assemble(
     Each output must already carry its full attributes; any clash with a
     variable that stays is refused. ``history`` gains a line naming
     ``operation`` and ``Conventions`` is set.
+
+    Examples
+    --------
+    >>> ds = xr.Dataset({"a": ("x", [1.0])})
+    >>> out = assemble(ds, {"b": (ds["a"] * 2).assign_attrs(units="1")}, inputs=["a"],
+    ...                keep_inputs=False, operation="doubling")
+    >>> list(out.data_vars), "doubling" in out.attrs["history"]
+    (['b'], True)
     """
     dropped = [] if keep_inputs else [n for n in dict.fromkeys(inputs) if n in ds.data_vars]
     base = ds.drop_vars(dropped)
