@@ -27,6 +27,32 @@ __all__ = [
     "true_wind",
 ]
 
+#: elements per block of the full-size work: the temporaries of one block stay in cache
+BLOCK = 1 << 15
+
+
+def _in_blocks(func, args, nout):
+    """``func(*args)`` evaluated over blocks of the leading axis of the broadcast shape.
+
+    Arguments that do not span that axis (fewer dimensions, or length 1 there)
+    are passed whole to every block; the results are written into full-size
+    outputs. Small inputs are evaluated in one go.
+    """
+    args = [np.asarray(a, dtype=np.float64) for a in args]
+    shape = np.broadcast_shapes(*(a.shape for a in args))
+    size = int(np.prod(shape)) if shape else 1
+    if not shape or size <= 2 * BLOCK or shape[0] == 1:
+        return func(*args)
+    outs = tuple(np.empty(shape) for _ in range(nout))
+    rows = max(1, BLOCK // max(1, size // shape[0]))
+    spans = [a.ndim == len(shape) and a.shape[0] == shape[0] for a in args]
+    for start in range(0, shape[0], rows):
+        part = slice(start, start + rows)
+        results = func(*(a[part] if span else a for a, span in zip(args, spans, strict=True)))
+        for out, result in zip(outs, results, strict=True):
+            out[part] = result
+    return outs
+
 
 def bearing_to_components(speed, bearing_deg, *, sign=1.0):
     """Speed and bearing to eastward and northward components.
@@ -41,6 +67,10 @@ def bearing_to_components(speed, bearing_deg, *, sign=1.0):
     >>> [round(float(c), 12) + 0.0 for c in bearing_to_components(10.0, 270.0, sign=-1.0)]
     [10.0, 0.0]
     """
+    return _in_blocks(lambda s, b: _polar_block(s, b, sign), (speed, bearing_deg), 2)
+
+
+def _polar_block(speed, bearing_deg, sign):
     b = np.deg2rad(bearing_deg)
     s = np.multiply(speed, sign)
     return s * np.sin(b), s * np.cos(b)
@@ -160,6 +190,13 @@ def true_wind(heading, course, sog, rel_dir, rel_speed, zero_ref, *, speed_scale
     >>> [round(float(x), 9) for x in true_wind(0.0, 0.0, 0.0, 90.0, 5.0, 0.0)]
     [-5.0, 0.0, 5.0, 90.0]
     """
+    return _in_blocks(
+        lambda h, c, g, d, r, z: _true_wind_block(h, c, g, d, r, z, speed_scale, ship_scale),
+        (heading, course, sog, rel_dir, rel_speed, zero_ref), 4)
+
+
+def _true_wind_block(heading, course, sog, rel_dir, rel_speed, zero_ref, speed_scale,
+                     ship_scale):
     a_math = np.deg2rad(270.0 - (np.add(np.add(heading, zero_ref), rel_dir)))
     c_math = np.deg2rad(90.0 - np.asarray(course, dtype=np.float64))
     a = np.multiply(rel_speed, speed_scale)
@@ -223,6 +260,12 @@ def platform_to_earth(forward, starboard, up, heading, pitch, roll, ship_east, s
     >>> [round(float(x), 12) + 0.0 for x in (east, north, up)]
     [1.0, 0.0, 0.0]
     """
+    return _in_blocks(lambda *a: _platform_to_earth_block(*a, scale),
+                      (forward, starboard, up, heading, pitch, roll, ship_east, ship_north), 3)
+
+
+def _platform_to_earth_block(forward, starboard, up, heading, pitch, roll, ship_east,
+                             ship_north, scale):
     (n0, n1, n2), (e0, e1, e2), (d0, d1, d2) = _matrix_entries(heading, pitch, roll)
     if scale != 1.0:
         forward, starboard, up = (np.multiply(a, scale) for a in (forward, starboard, up))

@@ -152,3 +152,31 @@ def test_rotation_preserves_speed():
     x, y, a = rng.normal(size=1000), rng.normal(size=1000), rng.uniform(-np.pi, np.pi, 1000)
     e, n = kern.rotate_components(x, y, a)
     np.testing.assert_allclose(np.hypot(e, n), np.hypot(x, y), rtol=1e-12)
+
+
+def test_large_inputs_worked_in_blocks_match_the_references():
+    # beyond one block (2 x 32768 elements) the kernels work block by block; the results
+    # still match scipy's Euler matrices and the printed Smith, Bourassa & Sharp equations
+    from scipy.spatial.transform import Rotation
+
+    rng = np.random.default_rng(21)
+    t, d = 40_000, 3
+    body = rng.normal(size=(t, d, 3))
+    hd, pitch, roll = rng.uniform(0, 360, t), rng.normal(0, 3, t), rng.normal(0, 5, t)
+    se, sn = rng.normal(size=t), rng.normal(size=t)
+    e, n, up = kern.platform_to_earth(body[..., 0], body[..., 1], body[..., 2], hd[:, None],
+                                      pitch[:, None], roll[:, None], se[:, None], sn[:, None])
+    m = Rotation.from_euler("ZYX", np.column_stack([hd, pitch, roll]), degrees=True).as_matrix()
+    ned = np.einsum("tij,tbj->tbi", m, body * np.array([1.0, 1.0, -1.0]))
+    np.testing.assert_allclose(e, ned[..., 1] + se[:, None], atol=1e-12)
+    np.testing.assert_allclose(n, ned[..., 0] + sn[:, None], atol=1e-12)
+    np.testing.assert_allclose(up, -ned[..., 2], atol=1e-12)
+    rdir, rspd, crse, sog = (rng.uniform(0, 360, t), rng.uniform(0, 20, t),
+                             rng.uniform(0, 360, t), rng.uniform(0, 6, t))
+    u, v, _, _ = kern.true_wind(hd, crse, sog, rdir, rspd, 7.5)
+    a = np.deg2rad(270.0 - (hd + 7.5 + rdir))
+    c = np.deg2rad(90.0 - crse)
+    np.testing.assert_allclose(u, rspd * np.cos(a) + sog * np.cos(c), atol=1e-12)
+    np.testing.assert_allclose(v, rspd * np.sin(a) + sog * np.sin(c), atol=1e-12)
+    su, _ = kern.bearing_to_components(rspd, rdir, sign=-1.0)
+    np.testing.assert_allclose(su, -rspd * np.sin(np.deg2rad(rdir)), atol=1e-12)
