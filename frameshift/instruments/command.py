@@ -17,8 +17,8 @@ from typing import TYPE_CHECKING
 
 import xarray as xr
 
+from frameshift.detect import criteria
 from frameshift.errors import ConventionError, MissingInputError
-from frameshift.instruments import criteria
 from frameshift.instruments.common import check_dataset, find_standard
 from frameshift.instruments.grid import grid_to_earth
 from frameshift.instruments.magnetic import magnetic_to_true

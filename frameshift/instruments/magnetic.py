@@ -18,8 +18,8 @@ import xarray as xr
 
 from frameshift._apply import apply_kernel
 from frameshift._kernels import instruments as kern
+from frameshift.detect import criteria
 from frameshift.errors import MissingInputError, UnsupportedInputError
-from frameshift.instruments import criteria
 from frameshift.instruments.common import (
     angle_to_degrees,
     as_input,

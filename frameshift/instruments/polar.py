@@ -15,8 +15,8 @@ import xarray as xr
 
 from frameshift._apply import apply_kernel
 from frameshift._kernels import instruments as kern
+from frameshift.detect import criteria
 from frameshift.errors import ConventionError, MissingInputError, check_choice
-from frameshift.instruments import criteria
 from frameshift.instruments.common import (
     angle_to_degrees,
     assemble,
