@@ -13,10 +13,12 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
-import glob
 import logging
+import math
 import os
+import signal
 import sys
+import threading
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -24,9 +26,10 @@ from pathlib import Path
 
 import xarray as xr
 
-from frameshift import io
+from frameshift import io, safefiles
 from frameshift.cf import set_conventions
 from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
+from frameshift.paths import Job, find_inputs, plan_jobs, printable
 
 __all__ = [
     "Job",
@@ -34,16 +37,17 @@ __all__ = [
     "Outcome",
     "RunOptions",
     "Summary",
+    "Terminated",
     "compute_context",
     "convert_operation",
     "find_inputs",
     "plan_jobs",
+    "printable",
     "process",
     "run",
     "terms_operation",
 ]
 
-_HAS_MAGIC = set("*?[")
 # A worker process needs room of its own besides its share of the budget:
 # below this, distributed's memory manager would pause it for good.
 _WORKER_FLOOR = 512 * 2**20
@@ -92,6 +96,10 @@ def convert_operation(
     'cartesian'
     """
     check_choice("to", to, ("inertial", "rotating"))
+    check_choice("basis", basis, ("local", "cartesian"))
+    check_choice("celestial", celestial, ("cirs", "gcrs"))
+    _check_dut1(dut1)
+    check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
                 "height": height, "dut1": float(dut1)}
     return Operation("convert", settings)
@@ -112,6 +120,9 @@ def terms_operation(
     >>> terms_operation(["coriolis"]).settings["terms"]
     ['coriolis']
     """
+    if terms is not None:
+        terms = _check_terms([terms] if isinstance(terms, str) else list(terms))
+    check_height(height)
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
                 "include_parameters": bool(include_parameters)}
@@ -119,7 +130,73 @@ def terms_operation(
 
 
 def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
-    return dict(velocity) if velocity is not None else None
+    if velocity is None:
+        return None
+    from frameshift.criteria import COMPONENTS
+
+    if not isinstance(velocity, Mapping):
+        raise ConventionError(
+            f"velocity must name components, e.g. eastward=U,northward=V; found {velocity!r}",
+            variable="velocity", expected="a mapping of component to variable name",
+            found=type(velocity).__name__,
+        )
+    unknown = sorted(set(velocity) - set(COMPONENTS))
+    missing = [c for c in ("eastward", "northward") if c not in velocity]
+    if unknown or missing:
+        found = ", ".join(f"{k}={v}" for k, v in velocity.items())
+        what = f"unknown component(s) {unknown}" if unknown else f"no {' or '.join(missing)}"
+        raise ConventionError(
+            f"velocity {found!r}: {what}; the components are {', '.join(COMPONENTS)} "
+            "(eastward and northward required), e.g. eastward=U,northward=V",
+            variable="velocity", expected="eastward=NAME,northward=NAME[,upward=NAME]",
+            found=found,
+        )
+    return dict(velocity)
+
+
+def _check_terms(terms: list) -> list[str]:
+    from frameshift.accelerations import TERMS
+
+    bad = [t for t in terms if not isinstance(t, str) or t not in TERMS]
+    if bad or not terms:
+        found = ", ".join(map(repr, bad)) or "no terms"
+        raise ConventionError(
+            f"terms {found} not known; valid terms are {', '.join(TERMS)}",
+            variable="terms", expected=" | ".join(TERMS), found=found,
+        )
+    return terms
+
+
+def _check_dut1(dut1: object) -> None:
+    try:
+        value = float(dut1)
+    except (TypeError, ValueError):
+        value = math.nan
+    if not math.isfinite(value) or abs(value) >= 1.0:
+        # UTC is kept within 0.9 s of UT1 (ITU-R TF.460-6, common practice since 1972)
+        raise ConventionError(
+            f"dut1 (UT1 - UTC) must be a finite number of seconds below 1 in size; found {dut1!r}",
+            variable="dut1", expected="-1 < dut1 < 1 (s)", found=repr(dut1),
+        )
+
+
+def check_height(height: object) -> None:
+    """Refuse a number given as height that is not finite or lies below the Earth's centre."""
+    if height is None or isinstance(height, str):
+        return
+    try:
+        value = float(height)
+    except (TypeError, ValueError):
+        return  # a DataArray: checked where it is read
+    from frameshift import EARTH
+
+    if not math.isfinite(value) or value <= -EARTH.polar_radius:
+        raise ConventionError(
+            f"height {height!r} m is not a finite height above the Earth's centre; give the "
+            "height above the reference ellipsoid in metres",
+            variable="height", expected=f"a finite number > {-EARTH.polar_radius:.0f} m",
+            found=repr(height),
+        )
 
 
 def _accelerations() -> Callable[..., xr.Dataset]:
@@ -151,20 +228,13 @@ class RunOptions:
     combine: bool = False
     combined_name: str = "combined.nc"
     command: str = "frameshift"
+    verify: bool = False  # check outputs against their recorded checksum before skipping
     progress: bool | None = None  # None: only when stderr is a terminal and not quiet
 
     def show_progress(self) -> bool:
         if self.quiet:
             return False
         return sys.stderr.isatty() if self.progress is None else self.progress
-
-
-@dataclass(frozen=True)
-class Job:
-    """One output to make, and the input file(s) it is made from."""
-
-    inputs: tuple[Path, ...]
-    output: Path
 
 
 @dataclass
@@ -178,16 +248,23 @@ class Outcome:
     expected: str | None = None
     found: str | None = None
     seconds: float = 0.0
+    signum: int | None = None  # the signal that interrupted the run, if any
 
     def line(self) -> str:
-        """One line for the summary."""
+        """One line for the summary (control characters in names escaped)."""
         source = ", ".join(map(str, self.job.inputs))
         if self.status == "written":
-            return f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
-        if self.status == "skipped":
-            return f"skipped {self.job.output}: {self.reason}"
-        where = f" (variable {self.variable!r})" if self.variable else ""
-        return f"{self.status.upper()} {source}{where}: {self.reason}"
+            text = f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
+        elif self.status == "skipped":
+            text = f"skipped {self.job.output}: {self.reason}"
+        else:
+            where = f" (variable {self.variable!r})" if self.variable else ""
+            text = f"{self.status.upper()} {source}{where}: {self.reason}"
+        return printable(text)
+
+
+class Terminated(KeyboardInterrupt):
+    """Raised in the main thread when the process receives SIGTERM."""
 
 
 @dataclass
@@ -201,9 +278,10 @@ class Summary:
 
     @property
     def exit_code(self) -> int:
-        """0 if nothing failed, 130 if interrupted, else 1."""
+        """0 if nothing failed, 130 if interrupted (128 + the signal number), else 1."""
         if self.count("interrupted"):
-            return 130
+            signums = [o.signum for o in self.outcomes if o.signum]
+            return 128 + signums[0] if signums else 130
         return 1 if self.count("failed") else 0
 
     def totals(self) -> str:
@@ -213,101 +291,6 @@ class Summary:
 
 
 # --- inputs and outputs -----------------------------------------------------------------
-def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
-    """Expand files, globs and directories (recursing, ``*.nc``) into ``(file, root)`` pairs.
-
-    ``root`` is the directory the file's place in the output tree is taken
-    relative to: the directory given, or the file's own directory.
-
-    Examples
-    --------
-    >>> [f.name for f, _ in find_inputs(["data_demo/tiny_example.nc"])]  # doctest: +SKIP
-    ['tiny_example.nc']
-    """
-    found: dict[Path, tuple[Path, Path]] = {}
-    for arg in paths:
-        text = os.fspath(arg)
-        matches = sorted(glob.glob(text, recursive=True)) if _HAS_MAGIC & set(text) else [text]
-        if not matches or not all(os.path.exists(m) for m in matches):
-            raise MissingInputError(
-                f"input {text!r} matches no file or directory",
-                variable=text,
-                expected="an existing file, directory or glob pattern",
-                found="nothing",
-            )
-        for match in map(Path, matches):
-            if match.is_dir():
-                files = sorted(p for p in match.rglob("*.nc") if p.is_file())
-                pairs = [(p, match) for p in files]
-            else:
-                pairs = [(match, match.parent)]
-            for file, root in pairs:
-                found.setdefault(file.resolve(), (file, root))
-    if not found:
-        raise MissingInputError(
-            f"no NetCDF (*.nc) files found in {[os.fspath(p) for p in paths]}",
-            variable="inputs",
-            expected="at least one *.nc file",
-            found="none",
-        )
-    return list(found.values())
-
-
-def plan_jobs(
-    paths: Sequence[str | os.PathLike],
-    out_dir: str | os.PathLike,
-    *,
-    combine: bool = False,
-    combined_name: str = "combined.nc",
-) -> list[Job]:
-    """The jobs of a run: outputs mirror the input tree under ``out_dir``.
-
-    Refuses (:class:`~frameshift.errors.ConventionError`) an output that
-    would replace an input, and an output directory inside an input
-    directory (its outputs would join the inputs of the next run).
-
-    Examples
-    --------
-    >>> plan_jobs(["data_demo/tiny_example.nc"], "out")[0].output  # doctest: +SKIP
-    PosixPath('out/tiny_example.nc')
-    """
-    pairs = find_inputs(paths)
-    out_dir = Path(out_dir)
-    out_abs = out_dir.resolve()
-    for arg in paths:
-        arg_path = Path(arg)
-        if arg_path.is_dir() and _within(out_abs, arg_path.resolve()):
-            raise ConventionError(
-                f"output directory {os.fspath(out_dir)!r} lies inside the input directory "
-                f"{os.fspath(arg)!r}; its outputs would become inputs. Choose a directory "
-                "outside the inputs",
-                variable="out",
-                expected="a directory outside the input directories",
-                found=os.fspath(out_dir),
-            )
-    if combine:
-        jobs = [Job(tuple(f for f, _ in pairs), out_dir / combined_name)]
-    else:
-        roots = [r.resolve() for _, r in pairs]
-        common = Path(os.path.commonpath(roots)) if len(set(roots)) > 1 else roots[0]
-        jobs = [Job((f,), out_dir / f.resolve().relative_to(common)) for f, _ in pairs]
-    inputs = {f.resolve() for f, _ in pairs}
-    for job in jobs:
-        if job.output.resolve() in inputs:
-            raise ConventionError(
-                f"output {os.fspath(job.output)!r} would overwrite the input of the same name; "
-                "choose another --out directory",
-                variable="out",
-                expected="an output path that is not an input",
-                found=os.fspath(job.output),
-            )
-    return jobs
-
-
-def _within(path: Path, parent: Path) -> bool:
-    return path == parent or parent in path.parents
-
-
 # --- compute ----------------------------------------------------------------------------
 @contextlib.contextmanager
 def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
@@ -403,7 +386,7 @@ def process(
     settings = {"command": operation.command, **operation.settings}
     start = time.perf_counter()
     if not options.overwrite:
-        current, why = io.is_current(job.output, job.inputs, settings)
+        current, why = io.is_current(job.output, job.inputs, settings, verify=options.verify)
         if current:
             return Outcome(job, "skipped", why)
     try:
@@ -414,19 +397,24 @@ def process(
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw)
             io.manifest_path(job.output).unlink(missing_ok=True)
-            io.write_atomic(to_write, job.output,
+            manifest = {"inputs": job.inputs, "settings": settings,
+                        "command": options.command, "checksum": options.verify}
+            io.write_atomic(to_write, job.output, manifest=manifest,
                             compute=_computer(client, bar_factory or _no_bar))
         finally:
             ds.close()
             if raw is not None:
                 raw.close()
-        io.write_manifest(job.output, job.inputs, settings, command=options.command)
     except FrameshiftError as exc:
         reason = _one_line(exc)
         if exc.variable == "velocity" and "velocity=" in reason:
             reason += " (on the command line: --velocity eastward=NAME,northward=NAME)"
         return Outcome(job, "failed", reason, exc.variable, exc.expected, exc.found,
                        time.perf_counter() - start)
+    except OSError as exc:  # the file system, said plainly
+        where = f" {exc.filename!r}" if exc.filename else ""
+        return Outcome(job, "failed", f"cannot read or write{where}: {exc.strerror or exc}",
+                       seconds=time.perf_counter() - start)
     except Exception as exc:  # one file's failure must not stop the others
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
@@ -479,7 +467,12 @@ def run(
     """
     jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
                      combined_name=options.combined_name)
+    safefiles.check_writable(options.out_dir)
+    removed = safefiles.remove_stale(job.output for job in jobs)
     summary = Summary()
+    if removed and not options.quiet:
+        print(f"removed {len(removed)} temporary file(s) left by an earlier, killed run",
+              file=sys.stderr)
     show = options.show_progress()
     from tqdm.auto import tqdm
 
@@ -487,13 +480,17 @@ def run(
         return tqdm(total=total, unit="chunk", leave=False, disable=not show,
                     desc="  chunks", file=sys.stderr)
 
-    with compute_context(options) as (client, parallel), tqdm(
+    with _sigterm_as_interrupt(), compute_context(options) as (client, parallel), tqdm(
         total=len(jobs), unit="file", disable=not show, file=sys.stderr, desc=operation.command
     ) as files_bar:
         for job in jobs:
             try:
                 outcome = process(job, operation, options, client=client, parallel=parallel,
                                   bar_factory=bar_factory)
+            except Terminated:
+                summary.outcomes.append(Outcome(job, "interrupted", "terminated (SIGTERM)",
+                                                signum=int(signal.SIGTERM)))
+                break
             except KeyboardInterrupt:
                 summary.outcomes.append(Outcome(job, "interrupted", "interrupted by the user"))
                 break
@@ -504,3 +501,24 @@ def run(
             if outcome.status == "failed" and options.fail_fast:
                 break
     return summary
+
+
+@contextlib.contextmanager
+def _sigterm_as_interrupt() -> Iterator[None]:
+    """Inside the block, SIGTERM raises :class:`Terminated` in the main thread.
+
+    So a terminated run cleans up exactly as a Ctrl-C does: the temporary
+    file goes, nothing reaches a final name, the summary says what happened.
+    """
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def handler(signum, frame):
+        raise Terminated(f"terminated by signal {signum}")
+
+    old = signal.signal(signal.SIGTERM, handler)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, old)

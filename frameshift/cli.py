@@ -91,6 +91,13 @@ def parse_velocity(text: str) -> dict[str, str]:
     return mapping
 
 
+def _velocity_argument(text: str) -> dict[str, str]:
+    try:
+        return parse_velocity(text)
+    except ConventionError as exc:  # argparse shows this message (exit status 2)
+        raise argparse.ArgumentTypeError(str(exc)) from exc
+
+
 def parse_height(text: str | None) -> float | str | None:
     """A height in metres, or the name of the variable holding it.
 
@@ -135,10 +142,14 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
                         "one output (--combined-name)")
     parser.add_argument("--combined-name", default="combined.nc", metavar="NAME",
                         help="file name of the --combine output (default combined.nc)")
+    parser.add_argument("--checksum", action="store_true",
+                        help="record a SHA-256 of each output in its manifest, and on re-runs "
+                        "redo any output whose bytes no longer match it (default: trust size "
+                        "and modification time)")
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--velocity", type=parse_velocity, default=None,
+    parser.add_argument("--velocity", type=_velocity_argument, default=None,
                         metavar="eastward=U,northward=V[,upward=W]",
                         help="name the velocity components instead of finding them by "
                         "standard_name")
@@ -203,7 +214,7 @@ def build_parser() -> argparse.ArgumentParser:
                           "operations it would refuse and why. Reads only metadata.",
                           epilog=_EPILOG_INSPECT, formatter_class=fmt)
     _common(insp, writes=False)
-    insp.add_argument("--velocity", type=parse_velocity, default=None,
+    insp.add_argument("--velocity", type=_velocity_argument, default=None,
                       metavar="eastward=U,northward=V[,upward=W]",
                       help="name the velocity components instead of finding them")
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
@@ -235,12 +246,18 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
         combine=args.combine,
         combined_name=args.combined_name,
         command=command,
+        verify=args.checksum,
     )
 
 
 def _run_batch(args: argparse.Namespace, command: str) -> int:
     from frameshift import batch
 
+    if args.workers is not None and args.workers < 1:
+        raise ConventionError(
+            f"--workers must be at least 1; found {args.workers}",
+            variable="workers", expected=">= 1", found=str(args.workers),
+        )
     if args.command == "convert":
         operation = batch.convert_operation(
             args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
@@ -282,7 +299,10 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
-        print(f"frameshift {args.command}: error: {' '.join(str(exc).split())}", file=sys.stderr)
+        from frameshift.paths import printable
+
+        message = printable(" ".join(str(exc).split()))
+        print(f"frameshift {args.command}: error: {message}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print(f"frameshift {args.command}: interrupted", file=sys.stderr)
@@ -430,7 +450,9 @@ def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None
 
 
 def _text(entry: dict) -> str:
-    lines = [entry["file"]]
+    from frameshift.paths import printable
+
+    lines = [printable(entry["file"])]
     if "error" in entry:
         return "\n".join([*lines, f"  cannot read: {entry['error']}"])
     dims = ", ".join(f"{k}={v}" for k, v in entry["dimensions"].items())
