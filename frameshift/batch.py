@@ -28,6 +28,7 @@ import xarray as xr
 
 from frameshift import io, safefiles
 from frameshift.cf import set_conventions
+from frameshift.cf_references import reconcile
 from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
 
@@ -65,18 +66,22 @@ class Operation:
     settings: Mapping[str, object]
 
     def apply(self, ds: xr.Dataset) -> xr.Dataset:
-        """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
+        """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed).
+
+        The result's CF references are made whole against ``ds``
+        (:func:`frameshift.cf_references.reconcile`).
+        """
         s = dict(self.settings)
         if self.command == "convert":
             from frameshift.transforms import to_inertial, to_rotating
 
             func = to_inertial if s.pop("to") == "inertial" else to_rotating
-            return func(ds, **s)
+            return reconcile(func(ds, **s), ds)
         apparent_accelerations = _accelerations()
         result = apparent_accelerations(ds, **s)
         attrs = {**ds.attrs, **result.attrs}
         set_conventions(attrs)
-        return result.assign_attrs(attrs)
+        return reconcile(result.assign_attrs(attrs), ds)
 
 
 def convert_operation(
