@@ -89,9 +89,10 @@ def convert_operation(
     *,
     basis: str = "local",
     celestial: str = "cirs",
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     dut1: float = 0.0,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
 
@@ -106,7 +107,7 @@ def convert_operation(
     _check_dut1(dut1)
     check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
-                "height": height, "dut1": float(dut1)}
+                "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
     return Operation("convert", settings)
 
 
@@ -114,9 +115,10 @@ def terms_operation(
     terms: Sequence[str] | None = None,
     *,
     traditional: bool = False,
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
 
@@ -130,14 +132,32 @@ def terms_operation(
     check_height(height)
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
-                "include_parameters": bool(include_parameters)}
+                "include_parameters": bool(include_parameters),
+                **_coordinate_settings(coordinates)}
     return Operation("terms", settings)
 
 
-def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
+def _mapping(velocity) -> dict[str, str] | list[dict[str, str]] | None:
+    """``velocity=`` as plain data: one mapping, or a list of them for several sets.
+
+    Each mapping is checked here, before any file is opened.
+    """
     if velocity is None:
         return None
-    from frameshift.criteria import COMPONENTS
+    if isinstance(velocity, Mapping):
+        return _checked_set(velocity)
+    if isinstance(velocity, str) or not all(isinstance(v, Mapping) for v in velocity):
+        raise ConventionError(
+            f"velocity must name components, e.g. eastward=U,northward=V; found {velocity!r}",
+            variable="velocity", expected="a mapping of component to variable name",
+            found=type(velocity).__name__,
+        )
+    sets = [_checked_set(v) for v in velocity]
+    return sets[0] if len(sets) == 1 else sets
+
+
+def _checked_set(velocity: Mapping) -> dict[str, str]:
+    from frameshift.detect.criteria import COMPONENTS
 
     if not isinstance(velocity, Mapping):
         raise ConventionError(
@@ -160,7 +180,7 @@ def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
 
 
 def _check_terms(terms: list) -> list[str]:
-    from frameshift.accelerations import TERMS
+    from frameshift.dynamics.accelerations import TERMS
 
     bad = [t for t in terms if not isinstance(t, str) or t not in TERMS]
     if bad or not terms:
@@ -204,9 +224,24 @@ def check_height(height: object) -> None:
         )
 
 
+_COORDINATE_KEYS = ("latitude", "longitude", "vertical", "time")
+
+
+def _coordinate_settings(coordinates: Mapping[str, str]) -> dict[str, str]:
+    unknown = set(coordinates) - set(_COORDINATE_KEYS)
+    if unknown:
+        raise ConventionError(
+            f"unknown coordinate option(s) {sorted(unknown)}; valid: {list(_COORDINATE_KEYS)}",
+            variable=sorted(unknown)[0],
+            expected=", ".join(_COORDINATE_KEYS),
+            found=", ".join(sorted(unknown)),
+        )
+    return {k: v for k, v in coordinates.items() if v is not None}
+
+
 def _accelerations() -> Callable[..., xr.Dataset]:
     try:
-        from frameshift.accelerations import apparent_accelerations
+        from frameshift.dynamics.accelerations import apparent_accelerations
     except ImportError as exc:
         raise MissingInputError(
             "apparent-acceleration terms are not available in this frameshift installation "
@@ -254,12 +289,14 @@ class Outcome:
     found: str | None = None
     seconds: float = 0.0
     signum: int | None = None  # the signal that interrupted the run, if any
+    sets: int = 0
 
     def line(self) -> str:
         """One line for the summary (control characters in names escaped)."""
         source = ", ".join(map(str, self.job.inputs))
         if self.status == "written":
-            text = f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
+            what = f"{self.sets} velocity set{'s' * (self.sets != 1)}, " if self.sets else ""
+            text = f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
         elif self.status == "skipped":
             text = f"skipped {self.job.output}: {self.reason}"
         else:
@@ -370,6 +407,31 @@ def _computer(client: object | None, bar_factory: Callable) -> Callable[[object]
     return compute
 
 
+def count_sets(result: xr.Dataset, target: str | None = None) -> int:
+    """How many velocity sets an operation converted (to ``target``) or decomposed.
+
+    Counted from what the result says of itself: one Cartesian velocity, one
+    eastward (or x) component in the target frame, or one ``velocity_variables``
+    group of terms per set.
+
+    Examples
+    --------
+    >>> count_sets(xr.Dataset())
+    0
+    """
+    sets = set()
+    for name, var in result.variables.items():
+        attrs = var.attrs
+        if "rotating_frame_variables" in attrs:  # one Cartesian velocity per set
+            sets.add(("cartesian", name))
+        elif (attrs.get("velocity_component") in ("eastward", "x")
+              and attrs.get("reference_frame") == target):
+            sets.add(("local", name))
+        elif "velocity_variables" in attrs:  # a term variable names the set it came from
+            sets.add(("terms", attrs["velocity_variables"]))
+    return len(sets)
+
+
 def _key_name(key: object) -> str:
     return str(key[0] if isinstance(key, tuple) else key)
 
@@ -399,6 +461,7 @@ def process(
                                 combine=options.combine)
         try:
             result = operation.apply(ds)
+            sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw)
             io.manifest_path(job.output).unlink(missing_ok=True)
@@ -423,7 +486,7 @@ def process(
     except Exception as exc:  # one file's failure must not stop the others
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
-    return Outcome(job, "written", seconds=time.perf_counter() - start)
+    return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
 
 
 def _one_line(exc: BaseException) -> str:
@@ -432,7 +495,7 @@ def _one_line(exc: BaseException) -> str:
 
 def _provenance(result: xr.Dataset, old_history: str | None, command: str) -> xr.Dataset:
     """History gains exactly one line: date, frameshift version, command, what was done."""
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     new = str(result.attrs.get("history", ""))
     if old_history and new.startswith(str(old_history)):

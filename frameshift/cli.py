@@ -149,13 +149,24 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--velocity", type=_velocity_argument, default=None,
+    parser.add_argument("--velocity", type=_velocity_argument, action="append", default=None,
                         metavar="eastward=U,northward=V[,upward=W]",
                         help="name the velocity components instead of finding them by "
-                        "standard_name")
+                        "standard_name; repeat the option for several sets (default: every "
+                        "set found by standard_name)")
     parser.add_argument("--height", default=None, metavar="METRES|VARIABLE",
                         help="height above the reference ellipsoid: a number in m or the "
                         "name of a variable (default: found from the vertical coordinate)")
+    _coordinate_options(parser)
+
+
+def _coordinate_options(parser: argparse.ArgumentParser) -> None:
+    for axis, what in (("latitude", "latitude"), ("longitude", "longitude"),
+                       ("vertical", "height or depth"), ("time", "time")):
+        parser.add_argument(f"--{axis}", default=None, metavar="VARIABLE",
+                            help=f"the {what} variable to use where the file does not mark "
+                            "it (CF attributes) or leaves a choice open (default: the one "
+                            "the velocity's coordinates attribute names)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -166,7 +177,7 @@ def build_parser() -> argparse.ArgumentParser:
     >>> build_parser().parse_args(["convert", "a.nc", "--out", "o"]).to
     'inertial'
     """
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     parser = argparse.ArgumentParser(
         prog="frameshift",
@@ -214,7 +225,7 @@ def build_parser() -> argparse.ArgumentParser:
                           "operations it would refuse and why. Reads only metadata.",
                           epilog=_EPILOG_INSPECT, formatter_class=fmt)
     _common(insp, writes=False)
-    insp.add_argument("--velocity", type=_velocity_argument, default=None,
+    insp.add_argument("--velocity", type=_velocity_argument, action="append", default=None,
                       metavar="eastward=U,northward=V[,upward=W]",
                       help="name the velocity components instead of finding them")
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
@@ -261,13 +272,14 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
     if args.command == "convert":
         operation = batch.convert_operation(
             args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
-            height=parse_height(args.height), dut1=args.dut1,
+            height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
         )
     else:
         names = [t.strip() for t in args.terms.split(",") if t.strip()] if args.terms else None
         operation = batch.terms_operation(
             names, traditional=args.traditional, velocity=args.velocity,
             height=parse_height(args.height), include_parameters=args.include_parameters,
+            **_coordinates(args),
         )
     summary = batch.run(args.inputs, operation, _options(args, command))
     failed = [o for o in summary.outcomes if o.status in ("failed", "interrupted")]
@@ -276,6 +288,12 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
     for outcome in failed:
         print(outcome.line(), file=sys.stderr)
     return summary.exit_code
+
+
+def _coordinates(args: argparse.Namespace) -> dict[str, str]:
+    """The --latitude/--longitude/--vertical/--time options that were given."""
+    keys = ("latitude", "longitude", "vertical", "time")
+    return {k: getattr(args, k) for k in keys if getattr(args, k, None) is not None}
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -323,13 +341,13 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
     >>> describe(xr.open_dataset("data_demo/tiny_example.nc"))["velocity"]  # doctest: +SKIP
     {'family': 'wind', 'eastward': {...}, ...}
     """
-    from frameshift.detect import INERTIAL, ROTATING, find_layout
+    from frameshift.detect import INERTIAL, ROTATING, read_layout
 
     report: dict = {"dimensions": {str(k): int(v) for k, v in ds.sizes.items()}}
     layout, error = None, None
     for target in (INERTIAL, ROTATING):
         try:
-            layout = find_layout(ds, velocity, target=target)
+            layout = read_layout(ds, velocity, target=target)
             break
         except FrameshiftError as exc:
             error = error or exc
@@ -339,32 +357,44 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
     if layout is None:
         report["velocity"] = {"refused": _reason(error)}
     else:
-        comps = {}
-        for comp, name in layout.velocity.items():
-            attrs = ds[name].attrs
-            comps[comp] = {
-                "variable": name,
-                "units": attrs.get("units"),
-                "standard_name": attrs.get("standard_name")
-                or attrs.get("standard_name_in_rotating_frame"),
-                "frame": attrs.get("reference_frame", "rotating (implied by standard_name)"),
-                "dims": list(map(str, ds[name].dims)),
-            }
-        report["velocity"] = {"family": layout.velocity.family, **comps}
-        report["position"] = {
-            axis: {"variable": name, "dims": list(map(str, ds[name].dims))}
-            for axis, name in (("latitude", layout.latitude), ("longitude", layout.longitude))
-        }
-        report["vertical"] = (
-            {"variable": layout.vertical, "units": ds[layout.vertical].attrs.get("units"),
-             "standard_name": ds[layout.vertical].attrs.get("standard_name"),
-             "sign": layout.vertical_sign}
-            if layout.vertical else None
-        )
-        report["notes"] = list(layout.notes)
+        report["sets"] = [_set_report(ds, vset) for vset in layout.sets]
+        report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity)
     return report
+
+
+def _set_report(ds: xr.Dataset, vset) -> dict:
+    """One velocity set: components, position, vertical and assumptions."""
+    comps = {}
+    for comp, name in vset.items():
+        attrs = ds[name].attrs
+        comps[comp] = {
+            "variable": name,
+            "units": attrs.get("units"),
+            "standard_name": attrs.get("standard_name")
+            or attrs.get("standard_name_in_rotating_frame"),
+            "frame": attrs.get("reference_frame", "rotating (implied by standard_name)"),
+            "dims": list(map(str, ds[name].dims)),
+        }
+    pos = vset.position
+    vertical = pos.vertical
+    return {
+        "velocity": {"family": vset.family, **comps},
+        "position": {
+            axis: {"variable": name, "dims": list(map(str, ds[name].dims))}
+            for axis, name in (("latitude", pos.latitude), ("longitude", pos.longitude))
+            if name is not None
+        },
+        "vertical": (
+            {"variable": vertical, "units": ds[vertical].attrs.get("units"),
+             "standard_name": ds[vertical].attrs.get("standard_name"),
+             "sign": pos.vertical_sign}
+            if vertical else None
+        ),
+        "time_variable": pos.time,
+        "notes": list(vset.notes),
+    }
 
 
 def _cartesian_report(ds: xr.Dataset) -> dict | None:
@@ -449,6 +479,26 @@ def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None
     return status
 
 
+def _set_text(entry: dict) -> list[str]:
+    vel = entry["velocity"]
+    lines = [f"  velocity ({vel['family']}):"]
+    for comp in ("eastward", "northward", "upward"):
+        if comp in vel:
+            c = vel[comp]
+            lines.append(f"    {comp:9s} {c['variable']} [{c['units']}] "
+                         f"{c['standard_name'] or '-'}; frame: {c['frame']}")
+    pos = entry["position"]
+    lines.append("  position: " + ", ".join(
+        f"{k} {v['variable']}{tuple(v['dims']) or ' (scalar)'}" for k, v in pos.items()))
+    vert = entry["vertical"]
+    lines.append("  vertical: " + (
+        f"{vert['variable']} [{vert['units']}] {vert['standard_name'] or ''}".rstrip()
+        if vert else "none"))
+    for note in entry["notes"]:
+        lines.append(f"  assumes: {note}")
+    return lines
+
+
 def _text(entry: dict) -> str:
     from frameshift.paths import printable
 
@@ -465,21 +515,11 @@ def _text(entry: dict) -> str:
         if "cartesian" not in entry:  # a Cartesian file has no east/north velocity, rightly
             lines.append(f"  velocity: none usable: {vel['refused']}")
     else:
-        lines.append(f"  velocity ({vel['family']}):")
-        for comp in ("eastward", "northward", "upward"):
-            if comp in vel:
-                c = vel[comp]
-                lines.append(f"    {comp:9s} {c['variable']} [{c['units']}] "
-                             f"{c['standard_name'] or '-'}; frame: {c['frame']}")
-        pos = entry["position"]
-        lines.append("  position: " + ", ".join(
-            f"{k} {v['variable']}{tuple(v['dims']) or ' (scalar)'}" for k, v in pos.items()))
-        vert = entry["vertical"]
-        lines.append("  vertical: " + (
-            f"{vert['variable']} [{vert['units']}] {vert['standard_name'] or ''}".rstrip()
-            if vert else "none"))
-        for note in entry["notes"]:
-            lines.append(f"  assumes: {note}")
+        sets = entry.get("sets", [entry])
+        if len(sets) > 1:
+            lines.append(f"  {len(sets)} velocity sets (each converted by convert and terms):")
+        for one in sets:
+            lines.extend(_set_text(one))
     t = entry["time"]
     lines.append("  time: " + (
         f"{t['variable']} ({t['size']} values, {t['first']} to {t['last']}, "

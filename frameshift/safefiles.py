@@ -223,7 +223,7 @@ def manifest_record(
     data_file: Path | None = None,
 ) -> dict:
     """What the manifest of ``output`` says (``data_file``: where its bytes are now)."""
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     data_file = data_file or output
     record = {
@@ -300,7 +300,7 @@ def is_current(
     >>> is_current("nowhere/a.nc", ["a.nc"], {})
     (False, 'no output yet')
     """
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     output = Path(output)
     if not output.exists():

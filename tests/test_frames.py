@@ -45,6 +45,8 @@ def test_place_and_locate_round_trip():
 
 def test_frames_are_immutable_hashable_and_pickle():
     with pytest.raises(dataclasses.FrozenInstanceError):
+        EARTH.name = "another"
+    with pytest.raises(AttributeError):  # derived from the rotation law: read-only
         EARTH.rotation_rate = 1.0
     assert pickle.loads(pickle.dumps(EARTH)) == EARTH
     assert hash(EARTH) == hash(pickle.loads(pickle.dumps(EARTH)))
