@@ -29,7 +29,13 @@ import xarray as xr
 from frameshift import io, safefiles
 from frameshift.cf import set_conventions
 from frameshift.cf_references import reconcile
-from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
+from frameshift.errors import (
+    ConventionError,
+    FrameshiftError,
+    MissingInputError,
+    UnsupportedInputError,
+    check_choice,
+)
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
 
 __all__ = [
@@ -457,8 +463,7 @@ def process(
         if current:
             return Outcome(job, "skipped", why)
     try:
-        ds, raw = io.open_input(list(job.inputs), memory=options.memory, parallel=parallel,
-                                combine=options.combine)
+        ds, raw = _open(job, options, parallel)
         try:
             result = operation.apply(ds)
             sets = count_sets(result, operation.settings.get("to"))
@@ -487,6 +492,25 @@ def process(
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
     return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
+
+
+def _open(job: Job, options: RunOptions, parallel: int) -> tuple[xr.Dataset, xr.Dataset | None]:
+    """The job's input, or one plain sentence when it is not a readable NetCDF file."""
+    try:
+        return io.open_input(list(job.inputs), memory=options.memory, parallel=parallel,
+                             combine=options.combine)
+    except FrameshiftError:
+        raise
+    except (OSError, ValueError, TypeError, RuntimeError, KeyError, IndexError) as exc:
+        text = _one_line(exc)
+        if "did not find a match" in text or "Unknown file format" in text:
+            text = "not a NetCDF file"
+        elif len(text) > 200:
+            text = text[:197] + "..."
+        raise UnsupportedInputError(
+            f"cannot read the input as NetCDF: {text}",
+            expected="a readable NetCDF file", found=text,
+        ) from exc
 
 
 def _one_line(exc: BaseException) -> str:
