@@ -40,7 +40,7 @@ def references(attrs: dict) -> dict[str, list[str]]:
     Examples
     --------
     >>> references({"grid_mapping": "crs: lat lon", "formula_terms": "sigma: s eta: zeta"})
-    {'grid_mapping': ['crs'], 'formula_terms': ['s', 'zeta']}
+    {'formula_terms': ['s', 'zeta'], 'grid_mapping': ['crs']}
     """
     found: dict[str, list[str]] = {}
     for key in _PAIRS:

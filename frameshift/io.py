@@ -15,6 +15,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
 import warnings
@@ -434,13 +435,36 @@ def write_atomic(
     """
 
     def write(tmp: Path) -> None:
-        delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
-        if compute is None:
-            delayed.compute()
-        else:
-            compute(delayed)
+        try:
+            delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
+            if compute is None:
+                delayed.compute()
+            else:
+                compute(delayed)
+        except BaseException:
+            _close_open_file(tmp)
+            raise
 
     return safefiles.publish(write, path, manifest=manifest)
+
+
+def _close_open_file(path: Path) -> None:
+    """Close the handle xarray keeps on a file whose write failed.
+
+    A write stopped midway never reaches xarray's final close, and its file
+    stays open in xarray's file cache: once deleted, a temporary file would
+    keep its disk space (a full disk stays full) until the process ends.
+    """
+    with contextlib.suppress(Exception):
+        from xarray.backends import file_manager
+
+        cache = file_manager.FILE_CACHE
+        for key in list(cache.keys()):
+            if len(key) > 1 and str(path) in tuple(map(str, key[1])):
+                handle = cache.pop(key, None)
+                if handle is not None:
+                    with contextlib.suppress(Exception):
+                        handle.close()
 
 
 # --- manifest (in frameshift.safefiles) --------------------------------------------------

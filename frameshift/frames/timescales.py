@@ -104,7 +104,7 @@ def instants_of(values, variable: str = "time") -> Instants:
 
 _UNIX_EPOCH_JD = 2440587.5
 _NS_PER_DAY = 86_400_000_000_000
-_REAL_CALENDARS = ("standard", "gregorian", "proleptic_gregorian", "julian")
+_REAL_CALENDARS = ("standard", "gregorian", "proleptic_gregorian", "julian", "tai")
 
 
 def julian_date_parts(values: np.ndarray, variable: str = "time") -> tuple[np.ndarray, np.ndarray]:
@@ -194,7 +194,12 @@ def _cftime_julian_date_parts(values: np.ndarray, variable: str) -> tuple[np.nda
         [v.hour * 3600 + v.minute * 60 + v.second + v.microsecond * 1e-6 for v in flat],
         dtype=np.float64,
     )
-    return (jdn - 0.5).reshape(values.shape), (seconds / 86400.0).reshape(values.shape)
+    jd1, jd2 = (jdn - 0.5).reshape(values.shape), (seconds / 86400.0).reshape(values.shape)
+    if flat.size and getattr(flat[0], "calendar", "") == "tai":
+        # CF 1.11 §4.4.2: the tai calendar counts International Atomic Time; to UTC
+        # with the leap-second table of pyerfa (SOFA)
+        jd1, jd2 = require_erfa().taiutc(jd1, jd2)
+    return jd1, jd2
 
 
 def utc_to_tt(jd1: np.ndarray, jd2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
