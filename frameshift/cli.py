@@ -361,7 +361,29 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
         report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity)
+    problem = _position_problem(ds, layout)
+    if problem:  # the operations would fail on these values when they compute
+        report["operations"] = {k: f"refused: {problem}" if v == "ok" else v
+                                for k, v in report["operations"].items()}
     return report
+
+
+def _position_problem(ds: xr.Dataset, layout: object) -> str | None:
+    """The refusal the position values would give, computed (coordinates are small)."""
+    if layout is None:
+        return None
+    import dask
+
+    from frameshift import EARTH
+    from frameshift.detect import floor_of, height_values, position_values
+
+    try:
+        for vset in layout.sets:
+            dask.compute(*position_values(ds, vset.position),
+                         height_values(ds, vset.position, floor=floor_of(EARTH)))
+    except FrameshiftError as exc:
+        return " ".join(str(exc).split())
+    return None
 
 
 def _set_report(ds: xr.Dataset, vset) -> dict:

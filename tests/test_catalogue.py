@@ -352,6 +352,19 @@ def test_zero_time_records_give_an_empty_output_not_a_crash(tmp_path, capsys):
     assert "Traceback" not in capsys.readouterr().err
 
 
+@pytest.mark.parametrize("key", ["lat_95", "lat_nan", "lat_radians", "alt_below_centre",
+                                 "lon_nan"])
+def test_inspect_no_longer_reports_bad_positions_as_ok(key, tmp_path, capsys):
+    import json
+
+    case = next(c for c in CASES if c.key == key)
+    path = _write(case, tmp_path)
+    assert cli.main(["inspect", str(path), "--json"]) == 0
+    (report,) = json.loads(capsys.readouterr().out)
+    verdict = report["operations"]["convert --to inertial --basis local"]
+    assert verdict.startswith("refused") and case.words in verdict, verdict
+
+
 def test_the_catalogue_is_large_and_keys_are_unique():
     keys = [c.key for c in CASES] + [k for k, _, _ in OPTION_CASES]
     assert len(keys) == len(set(keys))
