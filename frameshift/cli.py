@@ -379,8 +379,11 @@ def _position_problem(ds: xr.Dataset, layout: object) -> str | None:
 
     try:
         for vset in layout.sets:
-            dask.compute(*position_values(ds, vset.position),
-                         height_values(ds, vset.position, floor=floor_of(EARTH)))
+            values = list(position_values(ds, vset.position))
+            vertical = vset.position.vertical
+            if vertical is None or vertical in ds.coords:  # a data variable may be large
+                values.append(height_values(ds, vset.position, floor=floor_of(EARTH)))
+            dask.compute(*values)
     except FrameshiftError as exc:
         return " ".join(str(exc).split())
     return None
