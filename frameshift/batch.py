@@ -14,7 +14,6 @@ from __future__ import annotations
 import contextlib
 import datetime as _dt
 import logging
-import math
 import os
 import signal
 import sys
@@ -36,6 +35,7 @@ from frameshift.errors import (
     UnsupportedInputError,
     check_choice,
 )
+from frameshift.options import check_dut1, check_height, check_terms, check_velocity_set
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
 
 __all__ = [
@@ -110,7 +110,7 @@ def convert_operation(
     check_choice("to", to, ("inertial", "rotating"))
     check_choice("basis", basis, ("local", "cartesian"))
     check_choice("celestial", celestial, ("cirs", "gcrs"))
-    _check_dut1(dut1)
+    check_dut1(dut1)
     check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
                 "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
@@ -134,7 +134,7 @@ def terms_operation(
     ['coriolis']
     """
     if terms is not None:
-        terms = _check_terms([terms] if isinstance(terms, str) else list(terms))
+        terms = check_terms([terms] if isinstance(terms, str) else list(terms))
     check_height(height)
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
@@ -151,83 +151,15 @@ def _mapping(velocity) -> dict[str, str] | list[dict[str, str]] | None:
     if velocity is None:
         return None
     if isinstance(velocity, Mapping):
-        return _checked_set(velocity)
+        return check_velocity_set(velocity)
     if isinstance(velocity, str) or not all(isinstance(v, Mapping) for v in velocity):
         raise ConventionError(
             f"velocity must name components, e.g. eastward=U,northward=V; found {velocity!r}",
             variable="velocity", expected="a mapping of component to variable name",
             found=type(velocity).__name__,
         )
-    sets = [_checked_set(v) for v in velocity]
+    sets = [check_velocity_set(v) for v in velocity]
     return sets[0] if len(sets) == 1 else sets
-
-
-def _checked_set(velocity: Mapping) -> dict[str, str]:
-    from frameshift.detect.criteria import COMPONENTS
-
-    if not isinstance(velocity, Mapping):
-        raise ConventionError(
-            f"velocity must name components, e.g. eastward=U,northward=V; found {velocity!r}",
-            variable="velocity", expected="a mapping of component to variable name",
-            found=type(velocity).__name__,
-        )
-    unknown = sorted(set(velocity) - set(COMPONENTS))
-    missing = [c for c in ("eastward", "northward") if c not in velocity]
-    if unknown or missing:
-        found = ", ".join(f"{k}={v}" for k, v in velocity.items())
-        what = f"unknown component(s) {unknown}" if unknown else f"no {' or '.join(missing)}"
-        raise ConventionError(
-            f"velocity {found!r}: {what}; the components are {', '.join(COMPONENTS)} "
-            "(eastward and northward required), e.g. eastward=U,northward=V",
-            variable="velocity", expected="eastward=NAME,northward=NAME[,upward=NAME]",
-            found=found,
-        )
-    return dict(velocity)
-
-
-def _check_terms(terms: list) -> list[str]:
-    from frameshift.dynamics.accelerations import TERMS
-
-    bad = [t for t in terms if not isinstance(t, str) or t not in TERMS]
-    if bad or not terms:
-        found = ", ".join(map(repr, bad)) or "no terms"
-        raise ConventionError(
-            f"terms {found} not known; valid terms are {', '.join(TERMS)}",
-            variable="terms", expected=" | ".join(TERMS), found=found,
-        )
-    return terms
-
-
-def _check_dut1(dut1: object) -> None:
-    try:
-        value = float(dut1)
-    except (TypeError, ValueError):
-        value = math.nan
-    if not math.isfinite(value) or abs(value) >= 1.0:
-        # UTC is kept within 0.9 s of UT1 (ITU-R TF.460-6, common practice since 1972)
-        raise ConventionError(
-            f"dut1 (UT1 - UTC) must be a finite number of seconds below 1 in size; found {dut1!r}",
-            variable="dut1", expected="-1 < dut1 < 1 (s)", found=repr(dut1),
-        )
-
-
-def check_height(height: object) -> None:
-    """Refuse a number given as height that is not finite or lies below the Earth's centre."""
-    if height is None or isinstance(height, str):
-        return
-    try:
-        value = float(height)
-    except (TypeError, ValueError):
-        return  # a DataArray: checked where it is read
-    from frameshift import EARTH
-
-    if not math.isfinite(value) or value <= -EARTH.polar_radius:
-        raise ConventionError(
-            f"height {height!r} m is not a finite height above the Earth's centre; give the "
-            "height above the reference ellipsoid in metres",
-            variable="height", expected=f"a finite number > {-EARTH.polar_radius:.0f} m",
-            found=repr(height),
-        )
 
 
 _COORDINATE_KEYS = ("latitude", "longitude", "vertical", "time")
