@@ -20,6 +20,7 @@ import math
 import os
 import warnings
 from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -435,15 +436,25 @@ def write_atomic(
     """
 
     def write(tmp: Path) -> None:
+        # a pool of our own for Dask's threaded scheduler (other schedulers ignore it): if
+        # a chunk fails, the chunks still being written finish before the file is closed
+        import dask
+        from dask.system import CPU_COUNT
+
+        pool = ThreadPoolExecutor(max(1, int(CPU_COUNT)), thread_name_prefix="frameshift-write")
         try:
-            delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
-            if compute is None:
-                delayed.compute()
-            else:
-                compute(delayed)
+            with dask.config.set(pool=pool):
+                delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
+                if compute is None:
+                    delayed.compute()
+                else:
+                    compute(delayed)
         except BaseException:
+            pool.shutdown(wait=True, cancel_futures=True)
             _close_open_file(tmp)
             raise
+        finally:
+            pool.shutdown(wait=False)
 
     return safefiles.publish(write, path, manifest=manifest)
 
@@ -455,9 +466,16 @@ def _close_open_file(path: Path) -> None:
     stays open in xarray's file cache: once deleted, a temporary file would
     keep its disk space (a full disk stays full) until the process ends.
     """
-    with contextlib.suppress(Exception):
+    try:
         from xarray.backends import file_manager
-
+        from xarray.backends.locks import NETCDFC_LOCK
+    except ImportError:  # pragma: no cover - another xarray layout: leave it to the GC
+        return
+    # Dask threads still writing other chunks of the failed file hold this lock for each
+    # write: closing under it never pulls the file from under a write in progress
+    if not NETCDFC_LOCK.acquire(timeout=60):  # pragma: no cover - a write hung
+        return
+    try:
         cache = file_manager.FILE_CACHE
         for key in list(cache.keys()):
             if len(key) > 1 and str(path) in tuple(map(str, key[1])):
@@ -465,6 +483,8 @@ def _close_open_file(path: Path) -> None:
                 if handle is not None:
                     with contextlib.suppress(Exception):
                         handle.close()
+    finally:
+        NETCDFC_LOCK.release()
 
 
 # --- manifest (in frameshift.safefiles) --------------------------------------------------

@@ -461,3 +461,34 @@ def test_write_error_is_a_frameshift_error_and_an_os_error():
 
     again = pickle.loads(pickle.dumps(exc))
     assert (again.variable, again.found) == ("out", "0 bytes free")
+
+
+_FAILING_WRITES = textwrap.dedent("""
+    import time
+    import dask.array as da, numpy as np, xarray as xr
+    from frameshift import io
+
+    def bad(block):
+        if block[0, 0] > 0.5 and block[0, 1] > 0.5:
+            raise ValueError("a block fails")
+        time.sleep(0.001)
+        return block
+
+    for i in range(8):
+        data = da.random.random((400, 400), chunks=(20, 400)).map_blocks(bad, dtype=float)
+        ds = xr.Dataset({"a": (("x", "y"), data)})
+        try:
+            io.write_atomic(ds, f"{OUT}/a{i}.nc")
+        except ValueError:
+            pass
+""")
+
+
+def test_a_failing_block_among_threads_writing_closes_safely(tmp_path):
+    # the failed temporary file is closed while other Dask threads may still be writing
+    # chunks of it: closing under the NetCDF lock must never crash the process
+    script = _FAILING_WRITES.replace("{OUT}", str(tmp_path))
+    done = subprocess.run([sys.executable, "-c", script], cwd=REPO, capture_output=True,
+                          text=True, timeout=300)
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert _leftovers(tmp_path) == []
