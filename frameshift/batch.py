@@ -39,6 +39,7 @@ from frameshift.options import check_dut1, check_height, check_terms, check_velo
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
 
 __all__ = [
+    "OPERATIONS",
     "Job",
     "Operation",
     "Outcome",
@@ -51,6 +52,7 @@ __all__ = [
     "plan_jobs",
     "printable",
     "process",
+    "register_operation",
     "run",
     "terms_operation",
 ]
@@ -61,11 +63,29 @@ _WORKER_FLOOR = 512 * 2**20
 
 
 # --- what to do -----------------------------------------------------------------------
+#: The operations the runner knows: command name -> function(ds, **settings) -> Dataset.
+#: Capabilities add theirs with :func:`register_operation` (the command line, the
+#: runner and the demo then share it, with no chain of ifs).
+OPERATIONS: dict[str, Callable[..., xr.Dataset]] = {}
+
+
+def register_operation(command: str, function: Callable[..., xr.Dataset]) -> None:
+    """Make ``function(ds, **settings)`` the operation run for ``command``.
+
+    Examples
+    --------
+    >>> "convert" in OPERATIONS and "terms" in OPERATIONS  # registered below
+    True
+    """
+    OPERATIONS[command] = function
+
+
 @dataclass(frozen=True)
 class Operation:
     """One frameshift operation with its settings, applied file by file.
 
-    Make one with :func:`convert_operation` or :func:`terms_operation`.
+    Make one with :func:`convert_operation`, :func:`terms_operation`, or for a
+    registered command ``Operation(command, settings)``.
     """
 
     command: str
@@ -75,19 +95,35 @@ class Operation:
         """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed).
 
         The result's CF references are made whole against ``ds``
-        (:func:`frameshift.cf_references.reconcile`).
+        (:func:`frameshift.cf_references.reconcile`), whatever the operation.
         """
-        s = dict(self.settings)
-        if self.command == "convert":
-            from frameshift.transforms import to_inertial, to_rotating
+        try:
+            function = OPERATIONS[self.command]
+        except KeyError as exc:
+            raise ConventionError(
+                f"unknown operation {self.command!r}; known: {sorted(OPERATIONS)}",
+                variable="command",
+                expected=" | ".join(sorted(OPERATIONS)),
+                found=repr(self.command),
+            ) from exc
+        return reconcile(function(ds, **self.settings), ds)
 
-            func = to_inertial if s.pop("to") == "inertial" else to_rotating
-            return reconcile(func(ds, **s), ds)
-        apparent_accelerations = _accelerations()
-        result = apparent_accelerations(ds, **s)
-        attrs = {**ds.attrs, **result.attrs}
-        set_conventions(attrs)
-        return reconcile(result.assign_attrs(attrs), ds)
+
+def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
+    from frameshift.transforms import to_inertial, to_rotating
+
+    return (to_inertial if to == "inertial" else to_rotating)(ds, **settings)
+
+
+def _terms(ds: xr.Dataset, **settings) -> xr.Dataset:
+    result = _accelerations()(ds, **settings)
+    attrs = {**ds.attrs, **result.attrs}
+    set_conventions(attrs)
+    return result.assign_attrs(attrs)
+
+
+register_operation("convert", _convert)
+register_operation("terms", _terms)
 
 
 def convert_operation(

@@ -14,34 +14,14 @@ numbers (:meth:`Ellipsoid.kernel_geometry`), never themselves.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from frameshift._kernels import geodesy
-from frameshift.errors import FrameError
+from frameshift.errors import FrameError, check_finite
 
 __all__ = ["Ellipsoid", "Figure", "Plane"]
-
-
-def _number(name: str, value: object) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
-        raise FrameError(
-            f"{name} must be a finite number; found {value!r}",
-            variable=name,
-            expected="finite number",
-            found=repr(value),
-        )
-    value = float(value)
-    if not math.isfinite(value):
-        raise FrameError(
-            f"{name} must be a finite number; found {value!r}",
-            variable=name,
-            expected="finite number",
-            found=repr(value),
-        )
-    return value
 
 
 class Figure:
@@ -74,8 +54,8 @@ class Ellipsoid(Figure):
     positions = "geodetic"
 
     def __post_init__(self) -> None:
-        a = _number("equatorial_radius", self.equatorial_radius)
-        inv = _number("inverse_flattening", self.inverse_flattening)
+        a = check_finite("equatorial_radius", self.equatorial_radius)
+        inv = check_finite("inverse_flattening", self.inverse_flattening)
         if a <= 0:
             raise FrameError(
                 f"equatorial_radius must be positive; found {a!r}",
@@ -161,7 +141,7 @@ class Plane(Figure):
                 expected="(x, y)",
                 found=repr(self.center),
             ) from exc
-        object.__setattr__(self, "center", (_number("center", cx), _number("center", cy)))
+        object.__setattr__(self, "center", (check_finite("center", cx), check_finite("center", cy)))
 
     def place(self, x, y, z=0.0) -> np.ndarray:
         """Positions (m, trailing axis) relative to the foot of the rotation axis."""

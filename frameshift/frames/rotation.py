@@ -21,14 +21,13 @@ travel to Dask workers).
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from frameshift._kernels import rotation as rk
-from frameshift.errors import FrameError, UnitsError
+from frameshift.errors import FrameError, UnitsError, check_finite
 from frameshift.frames.timescales import ELAPSED, UTC, Instants, instants_of
 
 __all__ = ["EarthRotationAngle", "RateSeries", "RotationLaw", "SteadyRate", "epoch_of"]
@@ -36,25 +35,6 @@ __all__ = ["EarthRotationAngle", "RateSeries", "RotationLaw", "SteadyRate", "epo
 _TWO_PI = 2.0 * np.pi
 #: Epoch of a law on real dates when none is given: J2000.0 (two-part Julian date).
 J2000_EPOCH = (rk.J2000, 0.0)
-
-
-def _finite(name: str, value: object) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.floating, np.integer)):
-        raise FrameError(
-            f"{name} must be a finite number; found {value!r}",
-            variable=name,
-            expected="finite number",
-            found=repr(value),
-        )
-    value = float(value)
-    if not math.isfinite(value):
-        raise FrameError(
-            f"{name} must be a finite number; found {value!r}",
-            variable=name,
-            expected="finite number",
-            found=repr(value),
-        )
-    return value
 
 
 def epoch_of(epoch: object) -> tuple[float, float] | float | None:
@@ -73,9 +53,9 @@ def epoch_of(epoch: object) -> tuple[float, float] | float | None:
     if epoch is None:
         return None
     if isinstance(epoch, tuple) and len(epoch) == 2:
-        return (_finite("epoch", epoch[0]), _finite("epoch", epoch[1]))
+        return (check_finite("epoch", epoch[0]), check_finite("epoch", epoch[1]))
     if isinstance(epoch, (int, float, np.integer, np.floating)) and not isinstance(epoch, bool):
-        return _finite("epoch", epoch)
+        return check_finite("epoch", epoch)
     if isinstance(epoch, np.timedelta64):
         return float(instants_of(np.asarray([epoch]), "epoch").seconds[0])
     try:
@@ -173,9 +153,9 @@ class SteadyRate(RotationLaw):
     angle_at_epoch: float = 0.0
 
     def __init__(self, rate: float, *, epoch: object = None, angle_at_epoch: float = 0.0):
-        object.__setattr__(self, "nominal_rate", _finite("rotation_rate", rate))
+        object.__setattr__(self, "nominal_rate", check_finite("rotation_rate", rate))
         object.__setattr__(self, "epoch", epoch_of(epoch))
-        object.__setattr__(self, "angle_at_epoch", _finite("angle_at_epoch", angle_at_epoch))
+        object.__setattr__(self, "angle_at_epoch", check_finite("angle_at_epoch", angle_at_epoch))
 
     def angle(self, t: Instants, dut1: object = 0.0) -> np.ndarray:
         """Rotation angle at ``t``; for real dates ``dut1`` (s) moves UTC to UT1."""
@@ -208,7 +188,7 @@ class EarthRotationAngle(RotationLaw):
     nominal_rate: float = 7.292115e-5
 
     def __init__(self, rate: float = 7.292115e-5):
-        object.__setattr__(self, "nominal_rate", _finite("rotation_rate", rate))
+        object.__setattr__(self, "nominal_rate", check_finite("rotation_rate", rate))
 
     def angle(self, t: Instants, dut1: object = 0.0) -> np.ndarray:
         if t.kind != UTC:
@@ -278,7 +258,7 @@ class RateSeries(RotationLaw):
         angle_at_epoch: float = 0.0,
         rate_of_change: Callable | None = None,
     ):
-        object.__setattr__(self, "angle_at_epoch", _finite("angle_at_epoch", angle_at_epoch))
+        object.__setattr__(self, "angle_at_epoch", check_finite("angle_at_epoch", angle_at_epoch))
         object.__setattr__(self, "derivative", rate_of_change)
         if callable(rate) and not hasattr(rate, "dims"):
             e = epoch_of(epoch)
@@ -286,7 +266,7 @@ class RateSeries(RotationLaw):
             object.__setattr__(self, "function", rate)
             object.__setattr__(self, "epoch", e)
             object.__setattr__(self, "clock", None if e is None else (UTC if probe else ELAPSED))
-            object.__setattr__(self, "nominal_rate", _finite("rate(0)", float(rate(0.0))))
+            object.__setattr__(self, "nominal_rate", check_finite("rate(0)", float(rate(0.0))))
             return
         clock, epoch_value, seconds, values = _series(rate, epoch)
         object.__setattr__(self, "function", None)
@@ -436,6 +416,14 @@ def _series(rate, epoch) -> tuple[str, object, np.ndarray, np.ndarray]:
     if e is None:
         e = (float(t.jd1[0]), float(t.jd2[0])) if t.kind == UTC else float(t.seconds[0])
     seconds = t.seconds_since(_check_clock("RateSeries", e, t))
+    if not seconds[0] <= 0.0 <= seconds[-1]:
+        raise FrameError(
+            "the epoch of a rate series must lie within the series (the angle is integrated "
+            f"from it); the series runs {seconds[0]:g} s to {seconds[-1]:g} s from the epoch",
+            variable="epoch",
+            expected="an epoch within the series",
+            found=f"{-seconds[0]:g} s before its first sample" if seconds[0] > 0 else "after it",
+        )
     if np.any(np.diff(seconds) <= 0):
         raise FrameError(
             "the rate series' times must increase",

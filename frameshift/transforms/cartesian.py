@@ -156,13 +156,19 @@ def to_cartesian(ds, frame: Frame, layout: Layout, celestial: str, dut1) -> xr.D
             **({"position_variable": pname} if pname != "position" else {}),
             **{STASH: json.dumps(record, sort_keys=True)},
         )
+        declared = _declared_text(ds, vset.eastward)
+        if declared:  # the new variables sit where the velocity sat: say so, as it did
+            new[pname].encoding["coordinates"] = declared
+            new[vname].encoding["coordinates"] = declared
     component = xr.Variable("component", ["x", "y", "z"], {"long_name": "Cartesian axis"})
     names = {c.name for s in layout.sets for c in s.components}
     clash = "component" in ds.variables or bool(set(new) & set(ds.coords))
     if names <= set(ds.data_vars) and not clash:
         # one Dataset of the kept variables, the coordinates (indexes kept) and the new ones
         keep = {k: ds.variables[k] for k in ds.data_vars if k not in names}
-        keep.update({k: v.variable for k, v in new.items()})
+        for k, v in new.items():
+            keep[k] = v.variable
+            keep[k].encoding = dict(v.encoding)
         new_coord = xr.Coordinates({"component": component})
         coords = xr.Coordinates(
             {**ds.coords.variables, **new_coord.variables},
@@ -178,6 +184,12 @@ def to_cartesian(ds, frame: Frame, layout: Layout, celestial: str, dut1) -> xr.D
         f"to_inertial(basis='cartesian', celestial={celestial!r}, frame={frame.name!r}) "
         f"on {listing}",
     )
+
+
+def _declared_text(ds: xr.Dataset, name: str) -> str | None:
+    var = ds.variables[name]
+    text = var.attrs.get("coordinates", var.encoding.get("coordinates"))
+    return text if isinstance(text, str) else None
 
 
 def _one_set(ds, frame: Frame, vset: VelocitySet, m, o):
