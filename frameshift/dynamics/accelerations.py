@@ -264,7 +264,7 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
     # so the kernel sees the velocity (and writes its outputs) in memory order
     names = ["u", "v", "lat_deg", "h", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
     u, v = plain(east), plain(ds[vset.northward])
-    if vset.position.kind == "geodetic":
+    if vset.position.kind == "geodetic" and {"coriolis", "curvature"} & set(chosen):
         # east and north are undefined at the poles: what depends on u and v is NaN there
         u, v = mask_poles(u, lat, repr(vset.eastward)), v.where(np.abs(lat) != 90.0)
     inputs = [u, v, lat, h, omega]
