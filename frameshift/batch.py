@@ -525,6 +525,9 @@ def run(
     >>> op = convert_operation("inertial")
     >>> run(["data_demo"], op, RunOptions(out_dir=Path("out")))  # doctest: +SKIP
     """
+    if options.workers is not None and (options.scheduler is not None or options.workers < 1):
+        with compute_context(options):  # raises its ConventionError before anything is made
+            pass
     jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
                      combined_name=options.combined_name)
     safefiles.check_writable(options.out_dir)

@@ -11,7 +11,8 @@ WGS 84, NIMA TR8350.2).
 
 from __future__ import annotations
 
-import functools
+import concurrent.futures
+import multiprocessing
 from pathlib import Path
 
 import numpy as np
@@ -47,11 +48,18 @@ def runs(tmp_path_factory) -> Path:
         status = cli.main([args[0], str(root / source), "--out", str(root / label), "--quiet",
                            *args[1:]])
         assert status == 0, label
+    # the checker runs on every file once, two at a time (it is the slow part)
+    paths = [str(root / label / f"{name}.nc") for label in ("in", *RUNS) for name in NAMES]
+    ctx = multiprocessing.get_context("spawn")
+    with concurrent.futures.ProcessPoolExecutor(2, mp_context=ctx) as pool:
+        _REPORTS.update(zip(paths, pool.map(_report_messages, paths), strict=True))
     return root
 
 
-@functools.cache
-def _messages(path: str) -> tuple[frozenset, frozenset]:
+_REPORTS: dict[str, tuple[frozenset, frozenset]] = {}
+
+
+def _report_messages(path: str) -> tuple[frozenset, frozenset]:
     report = cf_report(path)
 
     def of(prio: str) -> frozenset:
@@ -59,6 +67,12 @@ def _messages(path: str) -> tuple[frozenset, frozenset]:
                          for msg in msgs)
 
     return of("high_priorities"), of("medium_priorities")
+
+
+def _messages(path: str) -> tuple[frozenset, frozenset]:
+    if path not in _REPORTS:
+        _REPORTS[path] = _report_messages(path)
+    return _REPORTS[path]
 
 
 def _without_names(messages: frozenset) -> set:

@@ -335,6 +335,7 @@ BAD_OPTIONS = [
     (["convert", "--dut1", "2.5"], "dut1"),
     (["convert", "--memory", "lots"], "not a size"),
     (["convert", "--workers", "0"], "at least 1"),
+    (["convert", "--workers", "1", "--scheduler", "tcp://127.0.0.1:1"], "not both"),
     (["convert", "--basis", "polar"], "invalid choice"),
     (["convert", "--to", "sideways"], "invalid choice"),
 ]
