@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from frameshift.errors import ConventionError, FrameshiftError
+from frameshift.paths import printable
 
 if TYPE_CHECKING:
     import xarray as xr
@@ -317,8 +318,6 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
-        from frameshift.paths import printable
-
         message = printable(" ".join(str(exc).split()))
         print(f"frameshift {args.command}: error: {message}", file=sys.stderr)
         return 2
@@ -500,7 +499,7 @@ def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None
         print(json.dumps(reports, indent=1, default=str))
     else:
         for entry in reports:
-            print(_text(entry))
+            print("\n".join(map(printable, _text(entry).split("\n"))))
     return status
 
 
@@ -525,9 +524,7 @@ def _set_text(entry: dict) -> list[str]:
 
 
 def _text(entry: dict) -> str:
-    from frameshift.paths import printable
-
-    lines = [printable(entry["file"])]
+    lines = [entry["file"]]
     if "error" in entry:
         return "\n".join([*lines, f"  cannot read: {entry['error']}"])
     dims = ", ".join(f"{k}={v}" for k, v in entry["dimensions"].items())

@@ -413,6 +413,10 @@ def test_names_with_control_characters_are_printed_escaped(tmp_path, capsys):
     assert "\x1b" not in text and "\r" not in text
     assert "bad\\x1b[2Jname\\r.nc" in text
     assert batch.printable("tab\there\u200b") == "tab\\there\\u200b"
+    # inspect too (NetCDF itself refuses control characters in variable names)
+    assert cli.main(["inspect", str(root)]) == 0
+    shown = capsys.readouterr().out
+    assert "\x1b" not in shown and "bad\\x1b[2Jname\\r.nc" in shown
 
 
 # --- a Dask worker killed mid-run ----------------------------------------------------------------
