@@ -124,7 +124,7 @@ def _free_bytes(folder: Path) -> int | None:
     return st.f_bavail * st.f_frsize
 
 
-def explain(exc: BaseException, folder: Path, what: str) -> WriteError | None:
+def _explain(exc: BaseException, folder: Path, what: str) -> WriteError | None:
     """A :class:`WriteError` naming the cause if ``exc`` came from the file system."""
     code = getattr(exc, "errno", None)
     free = _free_bytes(folder)
@@ -171,7 +171,7 @@ def check_writable(folder: str | os.PathLike) -> Path:
         nearest = folder
         while not nearest.exists() and nearest != nearest.parent:
             nearest = nearest.parent
-        raise (explain(exc, nearest, "the outputs") or WriteError(
+        raise (_explain(exc, nearest, "the outputs") or WriteError(
             f"cannot write in {os.fspath(folder)!r}: {exc.strerror or exc}",
             variable="out", expected="a writable folder", found=str(exc),
         )) from exc
@@ -361,7 +361,7 @@ def publish(
         path.parent.mkdir(parents=True, exist_ok=True)
         tmp = _temp_file(path)
     except OSError as exc:
-        raise (explain(exc, _existing(path.parent), what) or exc) from exc
+        raise (_explain(exc, _existing(path.parent), what) or exc) from exc
     side = None
     try:
         write(tmp)
@@ -386,7 +386,7 @@ def publish(
                 with contextlib.suppress(OSError):
                     leftover.unlink()
         if isinstance(exc, OSError | RuntimeError) and not isinstance(exc, WriteError):
-            better = explain(exc, path.parent, what)
+            better = _explain(exc, path.parent, what)
             if better is not None:
                 raise better from exc
         raise
