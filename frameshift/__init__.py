@@ -7,6 +7,15 @@ frame adds, on xarray data with units and CF metadata kept.
 
 from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
 from frameshift._version import __version__
+from frameshift.diagnostics import (
+    absolute_vorticity,
+    axial_angular_momentum,
+    excitation,
+    inertial_demodulation,
+    integrate_angular_momentum,
+    rotary_spectrum,
+    track_forces,
+)
 from frameshift.dynamics.accelerations import apparent_accelerations, coriolis_parameters
 from frameshift.dynamics.gravity import normal_gravity
 from frameshift.errors import (
@@ -51,9 +60,16 @@ __all__ = [
     "UnitsError",
     "UnsupportedInputError",
     "__version__",
+    "absolute_vorticity",
     "apparent_accelerations",
+    "axial_angular_momentum",
     "coriolis_parameters",
+    "excitation",
+    "inertial_demodulation",
+    "integrate_angular_momentum",
     "normal_gravity",
+    "rotary_spectrum",
     "to_inertial",
     "to_rotating",
+    "track_forces",
 ]

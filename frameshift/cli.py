@@ -220,6 +220,10 @@ def build_parser() -> argparse.ArgumentParser:
                        help="also write the parameters the terms are made of")
     _velocity_options(terms)
 
+    from frameshift.diagnostics import command as diagnostics_command
+
+    diagnostics_command.add_parser(sub, _common)
+
     insp = sub.add_parser("inspect", help="show what frameshift finds in files",
                           description="Report the velocity variables, units, positions, "
                           "vertical coordinate, time and frame frameshift detects, and which "
@@ -275,6 +279,10 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
             args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
             height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
         )
+    elif args.command == "momentum":
+        from frameshift.diagnostics.command import operation_from_args
+
+        operation = operation_from_args(args)
     else:
         names = [t.strip() for t in args.terms.split(",") if t.strip()] if args.terms else None
         operation = batch.terms_operation(
@@ -310,7 +318,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = parser.parse_args(args_list)
     command = shlex.join(["frameshift", *args_list])
     try:
-        if args.command in ("convert", "terms"):
+        if args.command in ("convert", "terms", "momentum"):
             return _run_batch(args, command)
         if args.command == "inspect":
             return _inspect(args.inputs, velocity=args.velocity, as_json=args.json)
