@@ -29,7 +29,7 @@ from frameshift import apparent_accelerations, batch, to_inertial
 from frameshift.errors import FrameshiftError, FrameshiftWarning
 
 LONG = os.environ.get("FRAMESHIFT_FUZZ") == "long"
-FUZZ = settings(max_examples=2000 if LONG else 30, deadline=None, derandomize=not LONG,
+FUZZ = settings(max_examples=2000 if LONG else 20, deadline=None, derandomize=not LONG,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
 #: how an internal error would look in a failure line (batch prefixes its type name)
