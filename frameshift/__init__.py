@@ -18,6 +18,7 @@ from frameshift.diagnostics import (
 )
 from frameshift.dynamics.accelerations import apparent_accelerations, coriolis_parameters
 from frameshift.dynamics.gravity import normal_gravity
+from frameshift.dynamics.planar import free_surface
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -31,12 +32,18 @@ from frameshift.errors import (
 from frameshift.frames import (
     EARTH,
     EARTH_SPHERE,
+    JUPITER,
+    MARS,
+    SATURN,
+    TITAN,
+    VENUS,
     EarthRotationAngle,
     Ellipsoid,
     Frame,
     Plane,
     Planet,
     RateSeries,
+    RotatingTable,
     SteadyRate,
 )
 from frameshift.transforms import to_inertial, to_rotating
@@ -44,6 +51,11 @@ from frameshift.transforms import to_inertial, to_rotating
 __all__ = [
     "EARTH",
     "EARTH_SPHERE",
+    "JUPITER",
+    "MARS",
+    "SATURN",
+    "TITAN",
+    "VENUS",
     "ConventionError",
     "EarthRotationAngle",
     "Ellipsoid",
@@ -56,6 +68,7 @@ __all__ = [
     "Plane",
     "Planet",
     "RateSeries",
+    "RotatingTable",
     "SteadyRate",
     "UnitsError",
     "UnsupportedInputError",
@@ -65,6 +78,7 @@ __all__ = [
     "axial_angular_momentum",
     "coriolis_parameters",
     "excitation",
+    "free_surface",
     "inertial_demodulation",
     "integrate_angular_momentum",
     "normal_gravity",

@@ -112,11 +112,21 @@ class Operation:
 def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     from frameshift.transforms import to_inertial, to_rotating
 
+    settings = _named_frame(ds, settings)
     return (to_inertial if to == "inertial" else to_rotating)(ds, **settings)
 
 
+def _named_frame(ds: xr.Dataset, settings: dict) -> dict:
+    """A frame given by name in the settings (plain data), made for this Dataset."""
+    if isinstance(settings.get("frame"), str):
+        from frameshift.frames.named import frame_from_name
+
+        settings = {**settings, "frame": frame_from_name(settings["frame"], ds)}
+    return settings
+
+
 def _terms(ds: xr.Dataset, **settings) -> xr.Dataset:
-    result = _accelerations()(ds, **settings)
+    result = _accelerations()(ds, **_named_frame(ds, settings))
     attrs = {**ds.attrs, **result.attrs}
     set_conventions(attrs)
     return result.assign_attrs(attrs)
@@ -134,9 +144,13 @@ def convert_operation(
     velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     dut1: float = 0.0,
+    frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
+
+    ``frame`` names the frame (:func:`frameshift.frames.named.frame_from_name`:
+    ``"mars"``, ``"table:10 rpm"``, ``"table:<rate variable>"``...); default the Earth.
 
     Examples
     --------
@@ -150,6 +164,8 @@ def convert_operation(
     check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
                 "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
+    if frame is not None:
+        settings["frame"] = str(frame)
     return Operation("convert", settings)
 
 
@@ -160,9 +176,12 @@ def terms_operation(
     velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
+    frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
+
+    ``frame`` names the frame as for :func:`convert_operation`.
 
     Examples
     --------
@@ -176,6 +195,8 @@ def terms_operation(
                 "velocity": _mapping(velocity), "height": height,
                 "include_parameters": bool(include_parameters),
                 **_coordinate_settings(coordinates)}
+    if frame is not None:
+        settings["frame"] = str(frame)
     return Operation("terms", settings)
 
 
