@@ -17,14 +17,19 @@ __all__ = ["check_dut1", "check_height", "check_terms", "check_velocity_set"]
 
 
 def check_velocity_set(velocity: Mapping) -> dict[str, str]:
-    """One ``velocity=`` set: known components, eastward and northward present.
+    """One ``velocity=`` set: known components of one basis, the two horizontal ones present.
+
+    The components are ``eastward``, ``northward`` [, ``upward``] (local axes on
+    a body) or ``x``, ``y`` [, ``z``] (a lab's axes), not mixed.
 
     Examples
     --------
     >>> check_velocity_set({"eastward": "U", "northward": "V"})
     {'eastward': 'U', 'northward': 'V'}
+    >>> check_velocity_set({"x": "u", "y": "v"})
+    {'x': 'u', 'y': 'v'}
     """
-    from frameshift.detect.criteria import COMPONENTS
+    from frameshift.detect.criteria import COMPONENTS, PLANAR_COMPONENTS
 
     if not isinstance(velocity, Mapping):
         raise ConventionError(
@@ -32,14 +37,18 @@ def check_velocity_set(velocity: Mapping) -> dict[str, str]:
             variable="velocity", expected="a mapping of component to variable name",
             found=type(velocity).__name__,
         )
-    unknown = sorted(set(velocity) - set(COMPONENTS))
-    missing = [c for c in ("eastward", "northward") if c not in velocity]
+    planar = bool(set(velocity) & set(PLANAR_COMPONENTS))
+    valid = PLANAR_COMPONENTS if planar else COMPONENTS
+    unknown = sorted(set(velocity) - set(valid))
+    missing = [c for c in valid[:2] if c not in velocity]
     if unknown or missing:
         found = ", ".join(f"{k}={v}" for k, v in velocity.items())
         what = f"unknown component(s) {unknown}" if unknown else f"no {' or '.join(missing)}"
         raise ConventionError(
             f"velocity {found!r}: {what}; the components are {', '.join(COMPONENTS)} "
-            "(eastward and northward required), e.g. eastward=U,northward=V",
+            f"(eastward and northward required) or, on a lab's axes, "
+            f"{', '.join(PLANAR_COMPONENTS)} (x and y required), not mixed; e.g. "
+            "eastward=U,northward=V",
             variable="velocity", expected="eastward=NAME,northward=NAME[,upward=NAME]",
             found=found,
         )
