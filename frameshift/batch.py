@@ -17,7 +17,6 @@ import logging
 import os
 import signal
 import sys
-import threading
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -37,6 +36,7 @@ from frameshift.errors import (
 )
 from frameshift.options import check_dut1, check_height, check_terms, check_velocity_set
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
+from frameshift.signals import Terminated, sigterm_as_interrupt
 
 __all__ = [
     "OPERATIONS",
@@ -300,10 +300,6 @@ class Outcome:
         return printable(text)
 
 
-class Terminated(KeyboardInterrupt):
-    """Raised in the main thread when the process receives SIGTERM."""
-
-
 @dataclass
 class Summary:
     """The outcomes of a run, in order."""
@@ -564,7 +560,7 @@ def run(
         return tqdm(total=total, unit="chunk", leave=False, disable=not show,
                     desc="  chunks", file=sys.stderr)
 
-    with _sigterm_as_interrupt(), compute_context(options) as (client, parallel), tqdm(
+    with sigterm_as_interrupt(), compute_context(options) as (client, parallel), tqdm(
         total=len(jobs), unit="file", disable=not show, file=sys.stderr, desc=operation.command
     ) as files_bar:
         for job in jobs:
@@ -585,24 +581,3 @@ def run(
             if outcome.status == "failed" and options.fail_fast:
                 break
     return summary
-
-
-@contextlib.contextmanager
-def _sigterm_as_interrupt() -> Iterator[None]:
-    """Inside the block, SIGTERM raises :class:`Terminated` in the main thread.
-
-    So a terminated run cleans up exactly as a Ctrl-C does: the temporary
-    file goes, nothing reaches a final name, the summary says what happened.
-    """
-    if threading.current_thread() is not threading.main_thread():
-        yield
-        return
-
-    def handler(signum, frame):
-        raise Terminated(f"terminated by signal {signum}")
-
-    old = signal.signal(signal.SIGTERM, handler)
-    try:
-        yield
-    finally:
-        signal.signal(signal.SIGTERM, old)
