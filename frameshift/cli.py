@@ -1,7 +1,8 @@
 """The ``frameshift`` command line: a thin layer over :mod:`frameshift.batch`.
 
 Subcommands: ``convert`` (between the Earth-rotating and the inertial
-frame), ``terms`` (apparent-acceleration terms), ``inspect`` (what
+frame), ``terms`` (apparent-acceleration terms), ``earth`` (instrument
+records to Earth-relative east/north/up), ``inspect`` (what
 frameshift finds in a file and what it would refuse) and ``demo``.
 Run ``frameshift SUBCOMMAND --help`` for options and examples.
 """
@@ -220,6 +221,17 @@ def build_parser() -> argparse.ArgumentParser:
                        help="also write the parameters the terms are made of")
     _velocity_options(terms)
 
+    from frameshift.instruments import command as earth_command
+
+    earth = sub.add_parser("earth", help="bring instrument records to Earth-relative east/north",
+                           description="Bring what instruments record (speed and direction, "
+                           "grid-relative components, magnetic bearings, a ship's relative wind, "
+                           "profiler currents on the ship's axes) to Earth-relative "
+                           "east/north/up components with CF standard names.",
+                           epilog=earth_command.EPILOG, formatter_class=fmt)
+    _common(earth)
+    earth_command.add_arguments(earth)
+
     from frameshift.diagnostics import command as diagnostics_command
 
     diagnostics_command.add_parser(sub, _common)
@@ -274,7 +286,11 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
             f"--workers must be at least 1; found {args.workers}",
             variable="workers", expected=">= 1", found=str(args.workers),
         )
-    if args.command == "convert":
+    if args.command == "earth":
+        from frameshift.instruments.command import operation_from_args
+
+        operation = operation_from_args(args)
+    elif args.command == "convert":
         operation = batch.convert_operation(
             args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
             height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
@@ -318,7 +334,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = parser.parse_args(args_list)
     command = shlex.join(["frameshift", *args_list])
     try:
-        if args.command in ("convert", "terms", "momentum"):
+        if args.command in ("convert", "terms", "momentum", "earth"):
             return _run_batch(args, command)
         if args.command == "inspect":
             return _inspect(args.inputs, velocity=args.velocity, as_json=args.json)

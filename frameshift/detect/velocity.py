@@ -86,8 +86,8 @@ def refuse_grid_relative(name: str, std: str | None) -> None:
     if std in criteria.GRID_RELATIVE_STANDARD_NAMES:
         raise UnsupportedInputError(
             f"variable {name!r} is grid-relative ({std}); rotate the components to "
-            "east/north first (e.g. with the grid's angle_of_rotation_from_east_to_x), "
-            "then convert",
+            "east/north first with frameshift.grid_to_earth (frameshift earth on the "
+            "command line), then convert",
             variable=name,
             expected="eastward/northward components",
             found=std,
@@ -330,10 +330,22 @@ def _nothing_found(ds: xr.Dataset, found: dict) -> None:
         n for t in criteria.VELOCITY_STANDARD_NAMES.values() for n in list(t.values())[:2]
     )
     detail = f"found only {partial}" if partial else "found no variable with those standard names"
+    polar = [
+        f"{n} ({v.attrs['standard_name']})"
+        for n, v in ds.variables.items()
+        if v.attrs.get("standard_name") in criteria.DIRECTION_CONVENTIONS
+    ]
+    hint = (
+        f"; the Dataset holds speed and direction ({', '.join(polar)}): make east/north "
+        "components first with frameshift.from_speed_direction (frameshift earth on the "
+        "command line)"
+        if polar
+        else ""
+    )
     raise MissingInputError(
         f"no eastward/northward velocity pair found: looked for standard names {looked}; "
-        f"{detail}. Name the variables with velocity={{'eastward': ..., 'northward': ...}} "
-        "(--velocity eastward=U,northward=V on the command line)",
+        f"{detail}{hint}. Name the variables with velocity={{'eastward': ..., "
+        "'northward': ...} (--velocity eastward=U,northward=V on the command line)",
         variable="velocity",
         expected="an eastward and a northward component",
         found=detail,

@@ -318,3 +318,19 @@ def test_the_command_line_says_how_many_sets_it_converted(tmp_path, capsys):
     assert main(["convert", str(path), "--out", str(tmp_path / "one"), "--velocity",
                  "eastward=wind_u,northward=wind_v"]) == 0
     assert "1 velocity set," in capsys.readouterr().out
+
+
+def test_a_station_file_of_speed_and_direction_is_pointed_to_the_instrument_step():
+    # CF standard name table v93: wind_speed and wind_from_direction ("from", clockwise
+    # from north); frameshift needs east/north components and says how to make them
+    ds = xr.Dataset(
+        {"wspd": ("time", [5.0], {"standard_name": "wind_speed", "units": "m s-1"}),
+         "wdir": ("time", [270.0], {"standard_name": "wind_from_direction", "units": "degree"})},
+        coords={"lat": ((), 60.0, LAT), "lon": ((), 5.0, LON)},
+    )
+    with pytest.raises(frameshift.MissingInputError, match="from_speed_direction") as info:
+        frameshift.to_inertial(ds)
+    assert "wdir (wind_from_direction)" in str(info.value) and "frameshift earth" in str(info.value)
+    converted = frameshift.to_inertial(frameshift.from_speed_direction(ds))
+    # a wind from 270° at 5 m s-1 blows eastward: u = +5 (CF definition), plus Ω (N + 0) cos φ
+    np.testing.assert_allclose(converted["eastward_wind"].values, 5.0 + frame_speed(60.0, 0.0))
