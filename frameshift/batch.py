@@ -13,9 +13,9 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
-import glob
 import logging
 import os
+import signal
 import sys
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
@@ -24,9 +24,19 @@ from pathlib import Path
 
 import xarray as xr
 
-from frameshift import io
+from frameshift import io, safefiles
 from frameshift.cf import set_conventions
-from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
+from frameshift.cf_references import reconcile
+from frameshift.errors import (
+    ConventionError,
+    FrameshiftError,
+    MissingInputError,
+    UnsupportedInputError,
+    check_choice,
+)
+from frameshift.options import check_dut1, check_height, check_terms, check_velocity_set
+from frameshift.paths import Job, find_inputs, plan_jobs, printable
+from frameshift.signals import Terminated, sigterm_as_interrupt
 
 __all__ = [
     "OPERATIONS",
@@ -35,17 +45,18 @@ __all__ = [
     "Outcome",
     "RunOptions",
     "Summary",
+    "Terminated",
     "compute_context",
     "convert_operation",
     "find_inputs",
     "plan_jobs",
+    "printable",
     "process",
     "register_operation",
     "run",
     "terms_operation",
 ]
 
-_HAS_MAGIC = set("*?[")
 # A worker process needs room of its own besides its share of the budget:
 # below this, distributed's memory manager would pause it for good.
 _WORKER_FLOOR = 512 * 2**20
@@ -81,7 +92,11 @@ class Operation:
     settings: Mapping[str, object]
 
     def apply(self, ds: xr.Dataset) -> xr.Dataset:
-        """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
+        """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed).
+
+        The result's CF references are made whole against ``ds``
+        (:func:`frameshift.cf_references.reconcile`), whatever the operation.
+        """
         try:
             function = OPERATIONS[self.command]
         except KeyError as exc:
@@ -91,7 +106,7 @@ class Operation:
                 expected=" | ".join(sorted(OPERATIONS)),
                 found=repr(self.command),
             ) from exc
-        return function(ds, **self.settings)
+        return reconcile(function(ds, **self.settings), ds)
 
 
 def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
@@ -143,6 +158,10 @@ def convert_operation(
     'cartesian'
     """
     check_choice("to", to, ("inertial", "rotating"))
+    check_choice("basis", basis, ("local", "cartesian"))
+    check_choice("celestial", celestial, ("cirs", "gcrs"))
+    check_dut1(dut1)
+    check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
                 "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
     if frame is not None:
@@ -169,6 +188,9 @@ def terms_operation(
     >>> terms_operation(["coriolis"]).settings["terms"]
     ['coriolis']
     """
+    if terms is not None:
+        terms = check_terms([terms] if isinstance(terms, str) else list(terms))
+    check_height(height)
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
                 "include_parameters": bool(include_parameters),
@@ -179,12 +201,21 @@ def terms_operation(
 
 
 def _mapping(velocity) -> dict[str, str] | list[dict[str, str]] | None:
-    """``velocity=`` as plain data: one mapping, or a list of them for several sets."""
+    """``velocity=`` as plain data: one mapping, or a list of them for several sets.
+
+    Each mapping is checked here, before any file is opened.
+    """
     if velocity is None:
         return None
     if isinstance(velocity, Mapping):
-        return dict(velocity)
-    sets = [dict(v) for v in velocity]
+        return check_velocity_set(velocity)
+    if isinstance(velocity, str) or not all(isinstance(v, Mapping) for v in velocity):
+        raise ConventionError(
+            f"velocity must name components, e.g. eastward=U,northward=V; found {velocity!r}",
+            variable="velocity", expected="a mapping of component to variable name",
+            found=type(velocity).__name__,
+        )
+    sets = [check_velocity_set(v) for v in velocity]
     return sets[0] if len(sets) == 1 else sets
 
 
@@ -232,20 +263,13 @@ class RunOptions:
     combine: bool = False
     combined_name: str = "combined.nc"
     command: str = "frameshift"
+    verify: bool = False  # check outputs against their recorded checksum before skipping
     progress: bool | None = None  # None: only when stderr is a terminal and not quiet
 
     def show_progress(self) -> bool:
         if self.quiet:
             return False
         return sys.stderr.isatty() if self.progress is None else self.progress
-
-
-@dataclass(frozen=True)
-class Job:
-    """One output to make, and the input file(s) it is made from."""
-
-    inputs: tuple[Path, ...]
-    output: Path
 
 
 @dataclass
@@ -259,18 +283,21 @@ class Outcome:
     expected: str | None = None
     found: str | None = None
     seconds: float = 0.0
+    signum: int | None = None  # the signal that interrupted the run, if any
     sets: int = 0
 
     def line(self) -> str:
-        """One line for the summary."""
+        """One line for the summary (control characters in names escaped)."""
         source = ", ".join(map(str, self.job.inputs))
         if self.status == "written":
             what = f"{self.sets} velocity set{'s' * (self.sets != 1)}, " if self.sets else ""
-            return f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
-        if self.status == "skipped":
-            return f"skipped {self.job.output}: {self.reason}"
-        where = f" (variable {self.variable!r})" if self.variable else ""
-        return f"{self.status.upper()} {source}{where}: {self.reason}"
+            text = f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
+        elif self.status == "skipped":
+            text = f"skipped {self.job.output}: {self.reason}"
+        else:
+            where = f" (variable {self.variable!r})" if self.variable else ""
+            text = f"{self.status.upper()} {source}{where}: {self.reason}"
+        return printable(text)
 
 
 @dataclass
@@ -284,9 +311,10 @@ class Summary:
 
     @property
     def exit_code(self) -> int:
-        """0 if nothing failed, 130 if interrupted, else 1."""
+        """0 if nothing failed, 130 if interrupted (128 + the signal number), else 1."""
         if self.count("interrupted"):
-            return 130
+            signums = [o.signum for o in self.outcomes if o.signum]
+            return 128 + signums[0] if signums else 130
         return 1 if self.count("failed") else 0
 
     def totals(self) -> str:
@@ -296,101 +324,6 @@ class Summary:
 
 
 # --- inputs and outputs -----------------------------------------------------------------
-def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
-    """Expand files, globs and directories (recursing, ``*.nc``) into ``(file, root)`` pairs.
-
-    ``root`` is the directory the file's place in the output tree is taken
-    relative to: the directory given, or the file's own directory.
-
-    Examples
-    --------
-    >>> [f.name for f, _ in find_inputs(["data_demo/tiny_example.nc"])]  # doctest: +SKIP
-    ['tiny_example.nc']
-    """
-    found: dict[Path, tuple[Path, Path]] = {}
-    for arg in paths:
-        text = os.fspath(arg)
-        matches = sorted(glob.glob(text, recursive=True)) if _HAS_MAGIC & set(text) else [text]
-        if not matches or not all(os.path.exists(m) for m in matches):
-            raise MissingInputError(
-                f"input {text!r} matches no file or directory",
-                variable=text,
-                expected="an existing file, directory or glob pattern",
-                found="nothing",
-            )
-        for match in map(Path, matches):
-            if match.is_dir():
-                files = sorted(p for p in match.rglob("*.nc") if p.is_file())
-                pairs = [(p, match) for p in files]
-            else:
-                pairs = [(match, match.parent)]
-            for file, root in pairs:
-                found.setdefault(file.resolve(), (file, root))
-    if not found:
-        raise MissingInputError(
-            f"no NetCDF (*.nc) files found in {[os.fspath(p) for p in paths]}",
-            variable="inputs",
-            expected="at least one *.nc file",
-            found="none",
-        )
-    return list(found.values())
-
-
-def plan_jobs(
-    paths: Sequence[str | os.PathLike],
-    out_dir: str | os.PathLike,
-    *,
-    combine: bool = False,
-    combined_name: str = "combined.nc",
-) -> list[Job]:
-    """The jobs of a run: outputs mirror the input tree under ``out_dir``.
-
-    Refuses (:class:`~frameshift.errors.ConventionError`) an output that
-    would replace an input, and an output directory inside an input
-    directory (its outputs would join the inputs of the next run).
-
-    Examples
-    --------
-    >>> plan_jobs(["data_demo/tiny_example.nc"], "out")[0].output  # doctest: +SKIP
-    PosixPath('out/tiny_example.nc')
-    """
-    pairs = find_inputs(paths)
-    out_dir = Path(out_dir)
-    out_abs = out_dir.resolve()
-    for arg in paths:
-        arg_path = Path(arg)
-        if arg_path.is_dir() and _within(out_abs, arg_path.resolve()):
-            raise ConventionError(
-                f"output directory {os.fspath(out_dir)!r} lies inside the input directory "
-                f"{os.fspath(arg)!r}; its outputs would become inputs. Choose a directory "
-                "outside the inputs",
-                variable="out",
-                expected="a directory outside the input directories",
-                found=os.fspath(out_dir),
-            )
-    if combine:
-        jobs = [Job(tuple(f for f, _ in pairs), out_dir / combined_name)]
-    else:
-        roots = [r.resolve() for _, r in pairs]
-        common = Path(os.path.commonpath(roots)) if len(set(roots)) > 1 else roots[0]
-        jobs = [Job((f,), out_dir / f.resolve().relative_to(common)) for f, _ in pairs]
-    inputs = {f.resolve() for f, _ in pairs}
-    for job in jobs:
-        if job.output.resolve() in inputs:
-            raise ConventionError(
-                f"output {os.fspath(job.output)!r} would overwrite the input of the same name; "
-                "choose another --out directory",
-                variable="out",
-                expected="an output path that is not an input",
-                found=os.fspath(job.output),
-            )
-    return jobs
-
-
-def _within(path: Path, parent: Path) -> bool:
-    return path == parent or parent in path.parents
-
-
 # --- compute ----------------------------------------------------------------------------
 @contextlib.contextmanager
 def compute_context(options: RunOptions) -> Iterator[tuple[object | None, int]]:
@@ -511,35 +444,58 @@ def process(
     settings = {"command": operation.command, **operation.settings}
     start = time.perf_counter()
     if not options.overwrite:
-        current, why = io.is_current(job.output, job.inputs, settings)
+        current, why = io.is_current(job.output, job.inputs, settings, verify=options.verify)
         if current:
             return Outcome(job, "skipped", why)
     try:
-        ds, raw = io.open_input(list(job.inputs), memory=options.memory, parallel=parallel,
-                                combine=options.combine)
+        ds, raw = _open(job, options, parallel)
         try:
             result = operation.apply(ds)
             sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw)
             io.manifest_path(job.output).unlink(missing_ok=True)
-            io.write_atomic(to_write, job.output,
+            manifest = {"inputs": job.inputs, "settings": settings,
+                        "command": options.command, "checksum": options.verify}
+            io.write_atomic(to_write, job.output, manifest=manifest,
                             compute=_computer(client, bar_factory or _no_bar))
         finally:
             ds.close()
             if raw is not None:
                 raw.close()
-        io.write_manifest(job.output, job.inputs, settings, command=options.command)
     except FrameshiftError as exc:
         reason = _one_line(exc)
         if exc.variable == "velocity" and "velocity=" in reason:
             reason += " (on the command line: --velocity eastward=NAME,northward=NAME)"
         return Outcome(job, "failed", reason, exc.variable, exc.expected, exc.found,
                        time.perf_counter() - start)
+    except OSError as exc:  # the file system, said plainly
+        where = f" {exc.filename!r}" if exc.filename else ""
+        return Outcome(job, "failed", f"cannot read or write{where}: {exc.strerror or exc}",
+                       seconds=time.perf_counter() - start)
     except Exception as exc:  # one file's failure must not stop the others
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
     return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
+
+
+def _open(job: Job, options: RunOptions, parallel: int) -> tuple[xr.Dataset, xr.Dataset | None]:
+    """The job's input, or one plain sentence when it is not a readable NetCDF file."""
+    try:
+        return io.open_input(list(job.inputs), memory=options.memory, parallel=parallel,
+                             combine=options.combine)
+    except FrameshiftError:
+        raise
+    except (OSError, ValueError, TypeError, RuntimeError, KeyError, IndexError) as exc:
+        text = _one_line(exc)
+        if "did not find a match" in text or "Unknown file format" in text:
+            text = "not a NetCDF file"
+        elif len(text) > 200:
+            text = text[:197] + "..."
+        raise UnsupportedInputError(
+            f"cannot read the input as NetCDF: {text}",
+            expected="a readable NetCDF file", found=text,
+        ) from exc
 
 
 def _one_line(exc: BaseException) -> str:
@@ -586,9 +542,17 @@ def run(
     >>> op = convert_operation("inertial")
     >>> run(["data_demo"], op, RunOptions(out_dir=Path("out")))  # doctest: +SKIP
     """
+    if options.workers is not None and (options.scheduler is not None or options.workers < 1):
+        with compute_context(options):  # raises its ConventionError before anything is made
+            pass
     jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
                      combined_name=options.combined_name)
+    safefiles.check_writable(options.out_dir)
+    removed = safefiles.remove_stale(job.output for job in jobs)
     summary = Summary()
+    if removed and not options.quiet:
+        print(f"removed {len(removed)} temporary file(s) left by an earlier, killed run",
+              file=sys.stderr)
     show = options.show_progress()
     from tqdm.auto import tqdm
 
@@ -596,13 +560,17 @@ def run(
         return tqdm(total=total, unit="chunk", leave=False, disable=not show,
                     desc="  chunks", file=sys.stderr)
 
-    with compute_context(options) as (client, parallel), tqdm(
+    with sigterm_as_interrupt(), compute_context(options) as (client, parallel), tqdm(
         total=len(jobs), unit="file", disable=not show, file=sys.stderr, desc=operation.command
     ) as files_bar:
         for job in jobs:
             try:
                 outcome = process(job, operation, options, client=client, parallel=parallel,
                                   bar_factory=bar_factory)
+            except Terminated:
+                summary.outcomes.append(Outcome(job, "interrupted", "terminated (SIGTERM)",
+                                                signum=int(signal.SIGTERM)))
+                break
             except KeyboardInterrupt:
                 summary.outcomes.append(Outcome(job, "interrupted", "interrupted by the user"))
                 break

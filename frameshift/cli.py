@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from frameshift.errors import ConventionError, FrameshiftError
+from frameshift.paths import printable
 
 if TYPE_CHECKING:
     import xarray as xr
@@ -92,6 +93,13 @@ def parse_velocity(text: str) -> dict[str, str]:
     return mapping
 
 
+def _velocity_argument(text: str) -> dict[str, str]:
+    try:
+        return parse_velocity(text)
+    except ConventionError as exc:  # argparse shows this message (exit status 2)
+        raise argparse.ArgumentTypeError(str(exc)) from exc
+
+
 def parse_height(text: str | None) -> float | str | None:
     """A height in metres, or the name of the variable holding it.
 
@@ -136,10 +144,14 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
                         "one output (--combined-name)")
     parser.add_argument("--combined-name", default="combined.nc", metavar="NAME",
                         help="file name of the --combine output (default combined.nc)")
+    parser.add_argument("--checksum", action="store_true",
+                        help="record a SHA-256 of each output in its manifest, and on re-runs "
+                        "redo any output whose bytes no longer match it (default: trust size "
+                        "and modification time)")
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--velocity", type=parse_velocity, action="append", default=None,
+    parser.add_argument("--velocity", type=_velocity_argument, action="append", default=None,
                         metavar="eastward=U,northward=V[,upward=W]",
                         help="name the velocity components instead of finding them by "
                         "standard_name; repeat the option for several sets (default: every "
@@ -230,7 +242,7 @@ def build_parser() -> argparse.ArgumentParser:
                           "operations it would refuse and why. Reads only metadata.",
                           epilog=_EPILOG_INSPECT, formatter_class=fmt)
     _common(insp, writes=False)
-    insp.add_argument("--velocity", type=parse_velocity, action="append", default=None,
+    insp.add_argument("--velocity", type=_velocity_argument, action="append", default=None,
                       metavar="eastward=U,northward=V[,upward=W]",
                       help="name the velocity components instead of finding them")
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
@@ -262,12 +274,18 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
         combine=args.combine,
         combined_name=args.combined_name,
         command=command,
+        verify=args.checksum,
     )
 
 
 def _run_batch(args: argparse.Namespace, command: str) -> int:
     from frameshift import batch
 
+    if args.workers is not None and args.workers < 1:
+        raise ConventionError(
+            f"--workers must be at least 1; found {args.workers}",
+            variable="workers", expected=">= 1", found=str(args.workers),
+        )
     if args.command == "earth":
         from frameshift.instruments.command import operation_from_args
 
@@ -324,7 +342,8 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
-        print(f"frameshift {args.command}: error: {' '.join(str(exc).split())}", file=sys.stderr)
+        message = printable(" ".join(str(exc).split()))
+        print(f"frameshift {args.command}: error: {message}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print(f"frameshift {args.command}: interrupted", file=sys.stderr)
@@ -365,7 +384,32 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
         report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity)
+    problem = _position_problem(ds, layout)
+    if problem:  # the operations would fail on these values when they compute
+        report["operations"] = {k: f"refused: {problem}" if v == "ok" else v
+                                for k, v in report["operations"].items()}
     return report
+
+
+def _position_problem(ds: xr.Dataset, layout: object) -> str | None:
+    """The refusal the position values would give, computed (coordinates are small)."""
+    if layout is None:
+        return None
+    import dask
+
+    from frameshift import EARTH
+    from frameshift.detect import floor_of, height_values, position_values
+
+    try:
+        for vset in layout.sets:
+            values = list(position_values(ds, vset.position))
+            vertical = vset.position.vertical
+            if vertical is None or vertical in ds.coords:  # a data variable may be large
+                values.append(height_values(ds, vset.position, floor=floor_of(EARTH)))
+            dask.compute(*values)
+    except FrameshiftError as exc:
+        return " ".join(str(exc).split())
+    return None
 
 
 def _set_report(ds: xr.Dataset, vset) -> dict:
@@ -479,7 +523,7 @@ def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None
         print(json.dumps(reports, indent=1, default=str))
     else:
         for entry in reports:
-            print(_text(entry))
+            print("\n".join(map(printable, _text(entry).split("\n"))))
     return status
 
 

@@ -18,6 +18,7 @@ __all__ = [
     "MissingInputError",
     "UnitsError",
     "UnsupportedInputError",
+    "WriteError",
     "check_choice",
     "check_finite",
 ]
@@ -90,6 +91,10 @@ class ConventionError(FrameshiftError, ValueError):
 
 class InputTypeError(FrameshiftError, TypeError):
     """An argument has the wrong type (e.g. a DataArray where a Dataset is needed)."""
+
+
+class WriteError(FrameshiftError, OSError):
+    """An output cannot be written: a full disk, a read-only or unwritable folder."""
 
 
 class FrameshiftWarning(UserWarning):

@@ -16,18 +16,17 @@
 from __future__ import annotations
 
 import contextlib
-import datetime as _dt
-import json
 import math
 import os
-import tempfile
 import warnings
 from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
+from frameshift import safefiles
 from frameshift.cf import float_encoding
 from frameshift.errors import ConventionError
 
@@ -413,15 +412,21 @@ def write_atomic(
     path: str | os.PathLike,
     *,
     compute: Callable[[object], object] | None = None,
+    manifest: Mapping | None = None,
 ) -> Path:
     """Write ``ds`` to ``path`` so that ``path`` only ever holds a complete file.
 
     The data go to a hidden temporary file in the same directory, written
     with ``to_netcdf(compute=False)`` and computed by ``compute`` (default:
     the current Dask scheduler; xarray takes the NetCDF lock that fits it);
-    the file is then flushed and renamed over ``path``. On any failure,
-    ``KeyboardInterrupt`` included, the temporary file is removed and the
-    error re-raised; an existing file at ``path`` is left as it was.
+    the file is then flushed and renamed over ``path``. With ``manifest``
+    (the arguments of :func:`frameshift.safefiles.manifest_record`: ``inputs``,
+    ``settings``, ``command``, ``checksum``) the manifest is written first
+    under a temporary name and both reach their final names together. On
+    any failure, ``KeyboardInterrupt`` included, the temporary files are
+    removed and the error re-raised (a full disk or unwritable folder as
+    :class:`~frameshift.errors.WriteError`); an existing file at ``path`` is
+    left as it was.
 
     Examples
     --------
@@ -429,146 +434,60 @@ def write_atomic(
     >>> write_atomic(xr.Dataset({"a": ("x", [1.0])}), "out/a.nc")  # doctest: +SKIP
     PosixPath('out/a.nc')
     """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(fd)
-    tmp = Path(tmp_name)
-    try:
-        delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
-        if compute is None:
-            delayed.compute()
-        else:
-            compute(delayed)
-        _flush(tmp)
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            tmp.unlink()
-        raise
-    _flush_dir(path.parent)
-    return path
 
+    def write(tmp: Path) -> None:
+        # a pool of our own for Dask's threaded scheduler (other schedulers ignore it): if
+        # a chunk fails, the chunks still being written finish before the file is closed
+        import dask
+        from dask.system import CPU_COUNT
 
-def _flush(path: Path) -> None:
-    with open(path, "rb") as fh:
-        os.fsync(fh.fileno())
-
-
-def _flush_dir(path: Path) -> None:
-    with contextlib.suppress(OSError):
-        fd = os.open(path, os.O_RDONLY)
+        pool = ThreadPoolExecutor(max(1, int(CPU_COUNT)), thread_name_prefix="frameshift-write")
         try:
-            os.fsync(fd)
+            with dask.config.set(pool=pool):
+                delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
+                if compute is None:
+                    delayed.compute()
+                else:
+                    compute(delayed)
+        except BaseException:
+            pool.shutdown(wait=True, cancel_futures=True)
+            _close_open_file(tmp)
+            raise
         finally:
-            os.close(fd)
+            pool.shutdown(wait=False)
+
+    return safefiles.publish(write, path, manifest=manifest)
 
 
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
+def _close_open_file(path: Path) -> None:
+    """Close the handle xarray keeps on a file whose write failed.
 
-
-# --- manifest ---------------------------------------------------------------------------
-def manifest_path(output: str | os.PathLike) -> Path:
-    """The JSON sidecar recording how ``output`` was made.
-
-    Examples
-    --------
-    >>> manifest_path("out/a.nc").name
-    'a.nc.frameshift.json'
+    A write stopped midway never reaches xarray's final close, and its file
+    stays open in xarray's file cache: once deleted, a temporary file would
+    keep its disk space (a full disk stays full) until the process ends.
     """
-    output = Path(output)
-    return output.with_name(output.name + _MANIFEST_SUFFIX)
-
-
-def _stat(path: Path) -> dict:
-    st = path.stat()
-    return {"path": str(path.resolve()), "size": st.st_size, "mtime_ns": st.st_mtime_ns}
-
-
-def _normal(settings: Mapping) -> object:
-    return json.loads(json.dumps(settings, sort_keys=True, default=str))
-
-
-def write_manifest(
-    output: str | os.PathLike,
-    inputs: Sequence[str | os.PathLike],
-    settings: Mapping,
-    *,
-    command: str = "",
-) -> Path:
-    """Record inputs (size, mtime), settings and the output's own size and mtime.
-
-    Written atomically (temporary file, then rename) after the output is in place.
-
-    Examples
-    --------
-    >>> write_manifest("out/a.nc", ["a.nc"], {"to": "inertial"})  # doctest: +SKIP
-    """
-    from frameshift._version import __version__
-
-    output = Path(output)
-    record = {
-        "frameshift_manifest": _MANIFEST_FORMAT,
-        "frameshift_version": __version__,
-        "created": _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
-        "command": command,
-        "settings": _normal(settings),
-        "inputs": [_stat(Path(p)) for p in inputs],
-        "output": _stat(output),
-    }
-    target = manifest_path(output)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=output.parent)
     try:
-        with os.fdopen(fd, "w") as fh:
-            json.dump(record, fh, indent=1, sort_keys=True)
-            fh.write("\n")
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
-    return target
-
-
-def is_current(
-    output: str | os.PathLike, inputs: Sequence[str | os.PathLike], settings: Mapping
-) -> tuple[bool, str]:
-    """Whether ``output`` is complete and newer than ``inputs``, made with ``settings``.
-
-    Returns ``(current, reason)``; the reason says what differs when it is not.
-
-    Examples
-    --------
-    >>> is_current("nowhere/a.nc", ["a.nc"], {})
-    (False, 'no output yet')
-    """
-    from frameshift._version import __version__
-
-    output = Path(output)
-    if not output.exists():
-        return False, "no output yet"
+        from xarray.backends import file_manager
+        from xarray.backends.locks import NETCDFC_LOCK
+    except ImportError:  # pragma: no cover - another xarray layout: leave it to the GC
+        return
+    # Dask threads still writing other chunks of the failed file hold this lock for each
+    # write: closing under it never pulls the file from under a write in progress
+    if not NETCDFC_LOCK.acquire(timeout=60):  # pragma: no cover - a write hung
+        return
     try:
-        record = json.loads(manifest_path(output).read_text())
-    except (OSError, ValueError):
-        return False, "no readable manifest"
-    if record.get("frameshift_version") != __version__:
-        return False, f"made by frameshift {record.get('frameshift_version')}"
-    if record.get("settings") != _normal(settings):
-        return False, "made with other settings"
-    try:
-        now = [_stat(Path(p)) for p in inputs]
-        made = _stat(output)
-    except OSError as exc:
-        return False, str(exc)
-    if record.get("inputs") != now:
-        return False, "inputs changed since"
-    if record.get("output") != made:
-        return False, "output changed since it was written"
-    if any(made["mtime_ns"] < i["mtime_ns"] for i in now):
-        return False, "output older than an input"
-    return True, "up to date"
+        cache = file_manager.FILE_CACHE
+        for key in list(cache.keys()):
+            if len(key) > 1 and str(path) in tuple(map(str, key[1])):
+                handle = cache.pop(key, None)
+                if handle is not None:
+                    with contextlib.suppress(Exception):
+                        handle.close()
+    finally:
+        NETCDFC_LOCK.release()
+
+
+# --- manifest (in frameshift.safefiles) --------------------------------------------------
+manifest_path = safefiles.manifest_path
+write_manifest = safefiles.write_manifest
+is_current = safefiles.is_current

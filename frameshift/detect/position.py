@@ -15,14 +15,21 @@ positive up for the vertical) as plain DataArrays, lazy when the input is.
 
 from __future__ import annotations
 
-from collections.abc import Hashable
+import warnings
+from collections.abc import Callable, Hashable
 from dataclasses import dataclass, field
 
 import numpy as np
 import xarray as xr
 
 from frameshift.detect import criteria
-from frameshift.errors import InputTypeError, MissingInputError, UnsupportedInputError
+from frameshift.errors import (
+    FrameshiftWarning,
+    InputTypeError,
+    MissingInputError,
+    UnitsError,
+    UnsupportedInputError,
+)
 from frameshift.frames.timescales import Instants, instants_of
 from frameshift.units import parse_units, scale_to
 
@@ -33,10 +40,12 @@ __all__ = [
     "find_dataset_axis",
     "find_time",
     "find_vertical",
+    "floor_of",
     "given_height",
     "height_values",
     "is_time",
     "length_values",
+    "mask_poles",
     "plain",
     "position_values",
     "time_instants",
@@ -346,15 +355,146 @@ def given_height(ds: xr.Dataset | None, height: object) -> xr.DataArray:
         ) from exc
 
 
-def height_values(ds: xr.Dataset, position: Position) -> xr.DataArray:
-    """Height above the figure (m, positive up) as a DataArray (may be 0-d)."""
+def height_values(
+    ds: xr.Dataset, position: Position, *, floor: float | None = None
+) -> xr.DataArray:
+    """Height above the figure (m, positive up) as a DataArray (may be 0-d).
+
+    Every value must be finite and, with ``floor`` (e.g. minus the body's
+    polar radius), above it: a height at or below the body's centre is not a
+    place. Checked now for values in memory, as the data are computed for
+    Dask-backed ones (a failure then stops the write; no file is left).
+    """
     if position.height is not None:
-        return given_height(ds, position.height)
-    if position.vertical is None:
+        out = given_height(ds, position.height)
+        name = position.height if isinstance(position.height, str) else "height"
+    elif position.vertical is None:
         return xr.DataArray(0.0)
-    out = plain(ds.variables[position.vertical]).astype(np.float64)
-    factor = position.vertical_sign * position.vertical_to_si
-    return out * factor if factor != 1.0 else out
+    else:
+        out = plain(ds.variables[position.vertical]).astype(np.float64)
+        factor = position.vertical_sign * position.vertical_to_si
+        out = out * factor if factor != 1.0 else out
+        name = position.vertical
+    return _checked(out, _height_check(str(name), floor))
+
+
+def _height_check(name: str, floor: float | None) -> Callable[[np.ndarray], None]:
+    def check(values: np.ndarray) -> None:
+        bad = ~np.isfinite(values)
+        if bad.any():
+            raise MissingInputError(
+                f"{name!r} holds {int(bad.sum())} missing or infinite height value(s); every "
+                "point needs a finite height (drop or fill those points first)",
+                variable=name, expected="finite heights", found=f"{int(bad.sum())} not finite",
+            )
+        if floor is not None and values.size and values.min() <= floor:
+            raise UnsupportedInputError(
+                f"{name!r} puts a point {float(values.min()):.6g} m from the reference surface, "
+                f"at or below the body's centre ({floor:.6g} m); check its units and its "
+                "'positive' attribute",
+                variable=name, expected=f"heights above {floor:.6g} m",
+                found=f"{float(values.min()):.6g} m",
+            )
+
+    return check
+
+
+def _checked(values: xr.DataArray, check: Callable[[np.ndarray], None]) -> xr.DataArray:
+    """``values`` checked now if in memory, or as each Dask block is computed."""
+    data = values.data
+    if hasattr(data, "dask"):
+
+        def block(part: np.ndarray) -> np.ndarray:
+            check(part)
+            return part
+
+        return values.copy(data=data.map_blocks(block, dtype=data.dtype))
+    check(np.asarray(data))
+    return values
+
+
+#: Units CF accepts for latitude and longitude, plus plain degrees (common practice)
+_DEGREES = {"latitude": criteria.LATITUDE_UNITS | {"degree", "degrees"},
+            "longitude": criteria.LONGITUDE_UNITS | {"degree", "degrees"}}
+
+
+def _angle_check(name: str, axis: str, attrs: dict) -> Callable[[np.ndarray], None]:
+    units = attrs.get("units")
+    if units is None:
+        raise UnitsError(
+            f"{axis} {name!r} has no units; CF {axis} is in "
+            f"{'degrees_north' if axis == 'latitude' else 'degrees_east'} (CF 1.11 §4.1, §4.2)",
+            variable=name, expected="degrees_north" if axis == "latitude" else "degrees_east",
+            found="no units",
+        )
+    text = str(units).strip()
+    other = "longitude" if axis == "latitude" else "latitude"
+    if text in criteria.AXIS_UNITS[other]:
+        raise UnitsError(
+            f"{axis} {name!r} has {other} units {text!r}; check which variable is which",
+            variable=name, expected=f"{axis} units", found=text,
+        )
+    if text not in _DEGREES[axis]:
+        try:
+            parse_units(name, text, "angle")
+        except UnitsError:
+            raise UnitsError(
+                f"{axis} {name!r} has units {text!r}, not an angle; CF {axis} is in "
+                f"{'degrees_north' if axis == 'latitude' else 'degrees_east'}",
+                variable=name, expected="degrees", found=text,
+            ) from None
+        raise UnitsError(
+            f"{axis} {name!r} is in {text!r}; CF {axis} is in degrees: convert it first, e.g. "
+            f"ds[{name!r}] = np.rad2deg(ds[{name!r}]) (for radians, × 180/π) and set units to "
+            f"{'degrees_north' if axis == 'latitude' else 'degrees_east'}",
+            variable=name, expected="degrees", found=text,
+        )
+
+    def check(values: np.ndarray) -> None:
+        bad = ~np.isfinite(values)
+        if bad.any():
+            raise MissingInputError(
+                f"{axis} {name!r} holds {int(bad.sum())} missing or infinite value(s); every "
+                "point needs a position (drop or fill those points first)",
+                variable=name, expected=f"finite {axis}", found=f"{int(bad.sum())} not finite",
+            )
+        if axis == "latitude" and values.size and np.abs(values).max() > 90.0:
+            worst = float(values.flat[np.argmax(np.abs(values))])
+            raise UnsupportedInputError(
+                f"latitude {name!r} holds {int((np.abs(values) > 90).sum())} value(s) outside "
+                f"-90..90 degrees (e.g. {worst:g}); check the variable and its units",
+                variable=name, expected="latitude within -90..90 degrees_north",
+                found=f"{worst:g}",
+            )
+
+    return check
+
+
+def floor_of(frame: object) -> float | None:
+    """Minus the polar radius of ``frame``'s figure (the lowest height allowed), or None."""
+    b = getattr(getattr(frame, "figure", None), "b", None)
+    return -float(b) if b else None
+
+
+def mask_poles(values: xr.DataArray, lat: xr.DataArray, what: str) -> xr.DataArray:
+    """``values`` with NaN where |latitude| is 90 degrees, where east and north are undefined.
+
+    Warns (:class:`~frameshift.errors.FrameshiftWarning`) with the number of
+    points, counted from a latitude in memory; a Dask-backed latitude is
+    masked lazily without a count. Just off the pole nothing changes.
+    """
+    at_pole = np.abs(lat) == 90.0
+    if not hasattr(lat.data, "dask"):
+        n_lat = int(np.count_nonzero(np.asarray(at_pole)))
+        if not n_lat:
+            return values
+        spread = int(np.prod([n for d, n in values.sizes.items() if d not in lat.dims]))
+        warnings.warn(
+            f"{n_lat * spread} point(s) of {what} lie at a pole (|latitude| = 90 degrees), where "
+            "east and north are undefined: the quantities that depend on them are NaN there",
+            FrameshiftWarning, stacklevel=3,
+        )
+    return values.where(~at_pole)
 
 
 def position_values(ds: xr.Dataset, position: Position) -> tuple[xr.DataArray, xr.DataArray]:
@@ -364,10 +504,17 @@ def position_values(ds: xr.Dataset, position: Position) -> tuple[xr.DataArray, x
             length_values(ds.variables[position.x], position.x),
             length_values(ds.variables[position.y], position.y),
         )
-    return (
-        plain(ds.variables[position.latitude]).astype(np.float64),
-        plain(ds.variables[position.longitude]).astype(np.float64),
-    )
+    out = []
+    for axis, name in (("latitude", position.latitude), ("longitude", position.longitude)):
+        var = ds.variables[name]
+        if var.dtype.kind not in "fiu":
+            raise InputTypeError(
+                f"{axis} {name!r} holds values of type {var.dtype}; expected numbers in degrees",
+                variable=name, expected="numbers", found=str(var.dtype),
+            )
+        check = _angle_check(name, axis, var.attrs)
+        out.append(_checked(plain(var).astype(np.float64), check))
+    return out[0], out[1]
 
 
 def time_instants(ds: xr.Dataset, position: Position) -> tuple[xr.DataArray, Instants]:

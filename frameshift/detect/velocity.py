@@ -63,6 +63,12 @@ def frame_of(var: xr.Variable) -> str | None:
 
 def _component(ds: xr.Dataset, axis: str, name: str, parsed: dict) -> Component:
     var = ds.variables[name]
+    if var.dtype.kind not in "fiu":
+        raise InputTypeError(
+            f"velocity component {name!r} holds values of type {var.dtype}; expected numbers "
+            "(a speed with units)",
+            variable=name, expected="numbers", found=str(var.dtype),
+        )
     text = var.attrs.get("units")
     key = text if isinstance(text, str) else None
     if key is None or key not in parsed:

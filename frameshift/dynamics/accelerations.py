@@ -30,7 +30,9 @@ from frameshift.detect import (
     VelocitySet,
     find_dataset_axis,
     find_time,
+    floor_of,
     height_values,
+    mask_poles,
     plain,
     position_values,
     read_layout,
@@ -263,7 +265,7 @@ def _set_tags(layout: Layout) -> list[str]:
 def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
     east = ds[vset.eastward]
     dims = tuple(east.dims)
-    h = height_values(ds, vset.position)
+    h = height_values(ds, vset.position, floor=floor_of(frame))
     extra = set(h.dims) - set(dims)
     if extra:
         raise MissingInputError(
@@ -279,7 +281,11 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
     # the velocity first: apply_ufunc orders the work dimensions as its inputs come,
     # so the kernel sees the velocity (and writes its outputs) in memory order
     names = ["u", "v", "lat_deg", "h", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
-    inputs = [plain(east), plain(ds[vset.northward]), lat, h, omega]
+    u, v = plain(east), plain(ds[vset.northward])
+    if vset.position.kind == "geodetic" and {"coriolis", "curvature"} & set(chosen):
+        # east and north are undefined at the poles: what depends on u and v is NaN there
+        u, v = mask_poles(u, lat, repr(vset.eastward)), v.where(np.abs(lat) != 90.0)
+    inputs = [u, v, lat, h, omega]
     inputs += list(rates)
     scales = [vset.component("eastward").to_si, vset.component("northward").to_si, 1.0]
     if vset.upward is not None:

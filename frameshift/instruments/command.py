@@ -166,8 +166,10 @@ def then_operation(
     >>> ds = xr.Dataset({"ws": ((), 2.0, {"standard_name": "wind_speed", "units": "m s-1"}),
     ...                  "wd": ((), 0.0, {"standard_name": "wind_from_direction",
     ...                                   "units": "degree"})},
-    ...                 coords={"lat": ((), 45.0, {"standard_name": "latitude"}),
-    ...                         "lon": ((), 5.0, {"standard_name": "longitude"})})
+    ...                 coords={"lat": ((), 45.0, {"standard_name": "latitude",
+    ...                                            "units": "degrees_north"}),
+    ...                         "lon": ((), 5.0, {"standard_name": "longitude",
+    ...                                           "units": "degrees_east"})})
     >>> out = then_operation(ds, earth={}, then="terms", settings={})
     >>> "coriolis_eastward" in out
     True

@@ -23,7 +23,9 @@ from frameshift.detect import (
     Layout,
     VelocitySet,
     find_time,
+    floor_of,
     height_values,
+    mask_poles,
     plain,
     position_values,
 )
@@ -204,11 +206,14 @@ def _one_set(ds, frame: Frame, vset: VelocitySet, m, o):
             comps.append(plain(ds.variables[comp.name]))
             scales.append(comp.to_si)
     lat, lon = position_values(ds, vset.position)
+    # east and north are undefined at the poles: the velocity is NaN there
+    comps[0] = mask_poles(comps[0], lat, repr(vset.eastward))
+    comps[1] = comps[1].where(np.abs(lat) != 90.0)
     return apply_kernel(
         vk.geodetic_to_inertial,
         lat,
         lon,
-        height_values(ds, vset.position),
+        height_values(ds, vset.position, floor=floor_of(frame)),
         *comps,
         m,
         o,

@@ -15,7 +15,9 @@ from frameshift.cf import INERTIAL, append_history, float_encoding, set_conventi
 from frameshift.detect import (
     Layout,
     VelocitySet,
+    floor_of,
     height_values,
+    mask_poles,
     position_values,
     time_instants,
 )
@@ -77,7 +79,7 @@ def convert_local(ds: xr.Dataset, frame: Frame, target: str, layout: Layout) -> 
 def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float):
     east = ds.variables[vset.eastward]
     lat, _ = position_values(ds, vset.position)
-    h = height_values(ds, vset.position)
+    h = height_values(ds, vset.position, floor=floor_of(frame))
     # Ω, the direction and the eastward unit fold into one factor of the small
     # position-only kernel; the full-size work is the one addition below
     factor = sign / vset.component("eastward").to_si
@@ -99,7 +101,10 @@ def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float):
         )
     # Variables broadcast by dimension name without index alignment (the
     # position arrays are the Dataset's own coordinates)
-    return (xr.Variable(east.dims, east.data) + shift.variable).transpose(*east.dims).data
+    new = xr.DataArray(xr.Variable(east.dims, east.data) + shift.variable)
+    if vset.position.kind == "geodetic":  # east is undefined at the poles: NaN there
+        new = mask_poles(new, lat, repr(vset.eastward))
+    return new.variable.transpose(*east.dims).data
 
 
 def _rate_over_time(ds: xr.Dataset, frame: Frame, vset: VelocitySet) -> xr.DataArray:

@@ -1,0 +1,420 @@
+"""Files that are whole or absent: temporary names, atomic publication, manifests.
+
+* Every temporary file frameshift makes is named
+  ``.{final name}.frameshift-{host}-{pid}-{random}.part`` in the folder of
+  the file it becomes, so a later run can tell its own leftovers (same
+  host, process gone) from anything else: :func:`remove_stale` deletes
+  those and nothing else.
+* :func:`publish` writes a NetCDF file and its manifest to temporary files
+  and gives both their final names only once both are complete; on any
+  failure (``KeyboardInterrupt`` and SIGTERM included) nothing is left under
+  a final name and no temporary file remains.
+* A full disk, a read-only or unwritable folder become a
+  :class:`~frameshift.errors.WriteError` with one plain sentence instead of
+  the library's "NetCDF: HDF error".
+* The manifest records the inputs (size, mtime), the settings, the output's
+  size and mtime and, when asked, its SHA-256, so a re-run can check the
+  content of an output before trusting it (:func:`is_current`).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import errno
+import hashlib
+import json
+import os
+import re
+import socket
+import tempfile
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from pathlib import Path
+
+from frameshift.errors import WriteError
+
+__all__ = [
+    "MANIFEST_SUFFIX",
+    "check_writable",
+    "file_checksum",
+    "is_current",
+    "manifest_path",
+    "manifest_record",
+    "publish",
+    "remove_stale",
+    "write_manifest",
+]
+
+MANIFEST_SUFFIX = ".frameshift.json"
+MANIFEST_FORMAT = 1
+#: Below this many free bytes, a failed write is put down to a full disk.
+FULL_DISK_BYTES = 4 * 2**20
+_TAG = "frameshift"
+_TEMP = re.compile(
+    r"^\.(?P<name>.+)\." + _TAG + r"-(?P<host>[0-9a-f]{8})-(?P<pid>\d+)-[^.]+\.part$"
+)
+_DISK_ERRNOS = {errno.ENOSPC, errno.EDQUOT, errno.EROFS, errno.EACCES, errno.EPERM, errno.EFBIG}
+
+
+# --- temporary names ----------------------------------------------------------------
+def _host() -> str:
+    return hashlib.sha256(socket.gethostname().encode()).hexdigest()[:8]
+
+
+def _temp_file(final: Path) -> Path:
+    fd, name = tempfile.mkstemp(
+        prefix=f".{final.name}.{_TAG}-{_host()}-{os.getpid()}-", suffix=".part", dir=final.parent
+    )
+    os.close(fd)
+    return Path(name)
+
+
+def _alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:  # exists, owned by someone else
+        return True
+    return True
+
+
+def remove_stale(finals: Iterable[str | os.PathLike]) -> list[Path]:
+    """Delete temporary files that earlier, killed runs left for these final paths.
+
+    Only files named as this module names them, for one of ``finals`` (or its
+    manifest), made on this host by a process that no longer exists, are
+    removed; a concurrent run's files and anything else are left alone.
+    Returns the paths removed.
+
+    Examples
+    --------
+    >>> remove_stale(["nowhere/a.nc"])
+    []
+    """
+    wanted: dict[Path, set[str]] = {}
+    for final in map(Path, finals):
+        wanted.setdefault(final.parent, set()).update({final.name, final.name + MANIFEST_SUFFIX})
+    removed, host = [], _host()
+    for folder, names in wanted.items():
+        try:
+            entries = list(os.scandir(folder))
+        except OSError:
+            continue
+        for entry in entries:
+            match = _TEMP.match(entry.name)
+            if not match or match["name"] not in names or match["host"] != host:
+                continue
+            if _alive(int(match["pid"])) or not entry.is_file(follow_symlinks=False):
+                continue
+            with contextlib.suppress(FileNotFoundError):
+                os.unlink(entry.path)
+                removed.append(Path(entry.path))
+    return removed
+
+
+# --- explaining file-system failures --------------------------------------------------
+def _free_bytes(folder: Path) -> int | None:
+    try:
+        st = os.statvfs(folder)
+    except (OSError, AttributeError):
+        return None
+    return st.f_bavail * st.f_frsize
+
+
+def _explain(exc: BaseException, folder: Path, what: str) -> WriteError | None:
+    """A :class:`WriteError` naming the cause if ``exc`` came from the file system."""
+    code = getattr(exc, "errno", None)
+    free = _free_bytes(folder)
+    if code in (errno.EROFS, errno.EACCES, errno.EPERM):
+        reason = "is read-only" if code == errno.EROFS else "is not writable"
+        return WriteError(
+            f"cannot write {what}: the folder {os.fspath(folder)!r} {reason}; "
+            "choose another --out or change its permissions",
+            variable="out", expected="a writable folder", found=os.strerror(code),
+        )
+    if code in (errno.ENOSPC, errno.EDQUOT, errno.EFBIG) or (
+        isinstance(exc, OSError | RuntimeError) and free is not None and free < FULL_DISK_BYTES
+    ):
+        left = f" ({free} bytes free)" if free is not None else ""
+        return WriteError(
+            f"cannot write {what}: the disk holding {os.fspath(folder)!r} is full{left}; "
+            "free some space or choose another --out",
+            variable="out", expected="room on the disk", found=f"{free} bytes free",
+        )
+    if isinstance(exc, OSError) and code is not None:
+        return WriteError(
+            f"cannot write {what} in {os.fspath(folder)!r}: {os.strerror(code)}",
+            variable="out", expected="a writable folder", found=os.strerror(code),
+        )
+    return None
+
+
+def check_writable(folder: str | os.PathLike) -> Path:
+    """Create ``folder`` if needed and prove a file can be made in it.
+
+    Raises :class:`~frameshift.errors.WriteError` with one plain sentence otherwise.
+
+    Examples
+    --------
+    >>> check_writable("out")  # doctest: +SKIP
+    PosixPath('out')
+    """
+    folder = Path(folder)
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        probe = _temp_file(folder / "write-check")
+        probe.unlink()
+    except OSError as exc:
+        nearest = folder
+        while not nearest.exists() and nearest != nearest.parent:
+            nearest = nearest.parent
+        raise (_explain(exc, nearest, "the outputs") or WriteError(
+            f"cannot write in {os.fspath(folder)!r}: {exc.strerror or exc}",
+            variable="out", expected="a writable folder", found=str(exc),
+        )) from exc
+    return folder
+
+
+# --- manifests ------------------------------------------------------------------------
+def manifest_path(output: str | os.PathLike) -> Path:
+    """The JSON sidecar recording how ``output`` was made.
+
+    Examples
+    --------
+    >>> manifest_path("out/a.nc").name
+    'a.nc.frameshift.json'
+    """
+    output = Path(output)
+    return output.with_name(output.name + MANIFEST_SUFFIX)
+
+
+def file_checksum(path: str | os.PathLike) -> str:
+    """SHA-256 of a file's bytes, as ``"sha256:<hex>"``.
+
+    Examples
+    --------
+    >>> file_checksum(__file__).startswith("sha256:")
+    True
+    """
+    with open(path, "rb") as fh:
+        return "sha256:" + hashlib.file_digest(fh, "sha256").hexdigest()
+
+
+def _stat(path: Path, named: Path | None = None) -> dict:
+    st = path.stat()
+    return {"path": str((named or path).resolve()), "size": st.st_size,
+            "mtime_ns": st.st_mtime_ns}
+
+
+def _normal(settings: Mapping) -> object:
+    return json.loads(json.dumps(settings, sort_keys=True, default=str))
+
+
+def manifest_record(
+    output: Path,
+    inputs: Sequence[str | os.PathLike],
+    settings: Mapping,
+    *,
+    command: str = "",
+    checksum: bool = False,
+    data_file: Path | None = None,
+) -> dict:
+    """What the manifest of ``output`` says (``data_file``: where its bytes are now)."""
+    from frameshift._version import __version__
+
+    data_file = data_file or output
+    record = {
+        "frameshift_manifest": MANIFEST_FORMAT,
+        "frameshift_version": __version__,
+        "created": _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "command": command,
+        "settings": _normal(settings),
+        "inputs": [_stat(Path(p)) for p in inputs],
+        "output": _stat(data_file, output),
+    }
+    if checksum:
+        record["output"]["checksum"] = file_checksum(data_file)
+    return record
+
+
+def _write_json(record: dict, final: Path) -> Path:
+    tmp = _temp_file(final)
+    try:
+        with open(tmp, "w") as fh:
+            json.dump(record, fh, indent=1, sort_keys=True)
+            fh.write("\n")
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    return tmp
+
+
+def write_manifest(
+    output: str | os.PathLike,
+    inputs: Sequence[str | os.PathLike],
+    settings: Mapping,
+    *,
+    command: str = "",
+    checksum: bool = False,
+) -> Path:
+    """Record how an existing ``output`` was made, atomically (temporary file, rename).
+
+    Examples
+    --------
+    >>> write_manifest("out/a.nc", ["a.nc"], {"to": "inertial"})  # doctest: +SKIP
+    """
+    output = Path(output)
+    record = manifest_record(output, inputs, settings, command=command, checksum=checksum)
+    target = manifest_path(output)
+    tmp = _write_json(record, target)
+    try:
+        os.replace(tmp, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    return target
+
+
+def is_current(
+    output: str | os.PathLike,
+    inputs: Sequence[str | os.PathLike],
+    settings: Mapping,
+    *,
+    verify: bool = False,
+) -> tuple[bool, str]:
+    """Whether ``output`` is complete and newer than ``inputs``, made with ``settings``.
+
+    With ``verify``, the output's bytes must also match the checksum its
+    manifest records (an output without one is not trusted).
+
+    Examples
+    --------
+    >>> is_current("nowhere/a.nc", ["a.nc"], {})
+    (False, 'no output yet')
+    """
+    from frameshift._version import __version__
+
+    output = Path(output)
+    if not output.exists():
+        return False, "no output yet"
+    try:
+        record = json.loads(manifest_path(output).read_text())
+        made_record = dict(record.get("output") or {})
+    except (OSError, ValueError, TypeError):
+        return False, "no readable manifest"
+    if record.get("frameshift_version") != __version__:
+        return False, f"made by frameshift {record.get('frameshift_version')}"
+    if record.get("settings") != _normal(settings):
+        return False, "made with other settings"
+    try:
+        now = [_stat(Path(p)) for p in inputs]
+        made = _stat(output)
+    except OSError as exc:
+        return False, str(exc)
+    recorded_sum = made_record.pop("checksum", None)
+    if record.get("inputs") != now:
+        return False, "inputs changed since"
+    if made_record != made:
+        return False, "output changed since it was written"
+    if any(made["mtime_ns"] < i["mtime_ns"] for i in now):
+        return False, "output older than an input"
+    if verify:
+        if recorded_sum is None:
+            return False, "no checksum recorded to verify the output against"
+        try:
+            actual = file_checksum(output)
+        except OSError as exc:
+            return False, str(exc)
+        if actual != recorded_sum:
+            return False, "output content differs from its recorded checksum"
+        return True, "up to date (checksum verified)"
+    return True, "up to date"
+
+
+# --- publishing -----------------------------------------------------------------------
+def publish(
+    write: Callable[[Path], None],
+    path: str | os.PathLike,
+    *,
+    manifest: Mapping | None = None,
+) -> Path:
+    """Make ``path`` with ``write(temporary_path)``, and its manifest, both or neither.
+
+    ``manifest`` holds the :func:`manifest_record` arguments (``inputs``,
+    ``settings``, ``command``, ``checksum``). The data file is written and
+    fsynced under a temporary name, its manifest is written and fsynced under
+    another, then both are renamed into place; if the second rename fails
+    the first is undone. On any failure both temporary files are removed,
+    and a file-system cause is raised as :class:`~frameshift.errors.WriteError`.
+    """
+    path = Path(path)
+    what = repr(os.fspath(path))
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = _temp_file(path)
+    except OSError as exc:
+        raise (_explain(exc, _existing(path.parent), what) or exc) from exc
+    side = None
+    try:
+        write(tmp)
+        _flush(tmp)
+        os.chmod(tmp, 0o666 & ~_umask())
+        if manifest is not None:
+            record = manifest_record(path, data_file=tmp, **manifest)
+            side = _write_json(record, manifest_path(path))
+        else:
+            manifest_path(path).unlink(missing_ok=True)
+        os.replace(tmp, path)
+        if side is not None:
+            try:
+                os.replace(side, manifest_path(path))
+            except BaseException:
+                with contextlib.suppress(OSError):
+                    path.unlink()
+                raise
+    except BaseException as exc:
+        for leftover in (tmp, side):
+            if leftover is not None:
+                with contextlib.suppress(OSError):
+                    leftover.unlink()
+        if isinstance(exc, OSError | RuntimeError) and not isinstance(exc, WriteError):
+            better = _explain(exc, path.parent, what)
+            if better is not None:
+                raise better from exc
+        raise
+    _flush_dir(path.parent)
+    return path
+
+
+def _existing(folder: Path) -> Path:
+    while not folder.exists() and folder != folder.parent:
+        folder = folder.parent
+    return folder
+
+
+def _flush(path: Path) -> None:
+    with open(path, "rb") as fh:
+        os.fsync(fh.fileno())
+
+
+def _flush_dir(path: Path) -> None:
+    with contextlib.suppress(OSError):
+        fd = os.open(path, os.O_RDONLY)
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
