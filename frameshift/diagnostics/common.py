@@ -16,7 +16,7 @@ import numpy as np
 import xarray as xr
 
 from frameshift.cf import stamp
-from frameshift.detect import find_layout
+from frameshift.detect import find_layout, position_values
 from frameshift.errors import InputTypeError, MissingInputError, UnitsError, UnsupportedInputError
 from frameshift.frames import Ellipsoid, check_frame
 from frameshift.units import parse_units, scale_to, ureg
@@ -97,6 +97,9 @@ def velocity_in_si(ds: xr.Dataset, velocity: Mapping[str, str] | None, frame) ->
     check_frame(frame, Ellipsoid)
     layout = find_layout(ds, velocity, height=0.0, target="inertial")
     vel = layout.velocity
+    # the door's checks (latitude in degrees and within ±90, finite longitude) on the
+    # positions the diagnostics read; in-memory coordinates are checked here and now
+    position_values(ds, vel.position)
     u = _scaled(ds.variables[vel.eastward], vel.eastward, "speed", "m s-1")
     v = _scaled(ds.variables[vel.northward], vel.northward, "speed", "m s-1")
     return Velocity(u, v, vel.eastward, vel.northward, vel.family, layout.latitude,

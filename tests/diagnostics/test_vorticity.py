@@ -145,3 +145,17 @@ def test_accessor_delegates(layout):
     ds = as_layout(ds, layout)
     xr.testing.assert_allclose(ds.frameshift.absolute_vorticity().drop_attrs(),
                                frameshift.absolute_vorticity(ds).drop_attrs())
+
+
+def test_diagnostics_pass_through_the_door_checks():
+    # a latitude of -95° does not exist (CF §4.1: latitude in degrees north, within ±90)
+    ds = xr.Dataset(
+        {"u": (("lat", "lon"), np.ones((3, 4)), {"standard_name": "eastward_wind",
+                                                "units": "m s-1"}),
+         "v": (("lat", "lon"), np.zeros((3, 4)), {"standard_name": "northward_wind",
+                                                 "units": "m s-1"})},
+        coords={"lat": ("lat", [-95.0, 0.0, 45.0], {"units": "degrees_north"}),
+                "lon": ("lon", [0.0, 90.0, 180.0, 270.0], {"units": "degrees_east"})},
+    )
+    with pytest.raises(frameshift.FrameshiftError, match="outside -90..90"):
+        frameshift.absolute_vorticity(ds)
