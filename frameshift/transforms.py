@@ -398,6 +398,9 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
         _STASH: json.dumps(record, sort_keys=True),
     }
     component = xr.Variable("component", ["x", "y", "z"], {"long_name": "Cartesian axis"})
+    # component first, left of the space-time dimensions (CF 1.11 §2.4), in memory as on disk
+    pos = pos.transpose("component", ...)
+    vel = vel.transpose("component", ...)
     new = {"position": pos.assign_attrs(pos_attrs), "velocity": vel.assign_attrs(vel_attrs)}
     names = set(vset.names())
     clash = "component" in ds.variables or bool({"position", "velocity"} & set(ds.coords))
