@@ -44,10 +44,14 @@ from frameshift.frames import EARTH, Planet, check_frame
 from frameshift.timescales import julian_date_parts
 from frameshift.units import parse_units, scale_to
 
-__all__ = ["TERMS", "TERM_FORMULAS", "apparent_accelerations", "coriolis_parameters"]
+__all__ = ["TERMS", "TERM_FORMULAS", "TOTALS", "apparent_accelerations", "coriolis_parameters"]
 
 #: The apparent-acceleration terms, in output order.
 TERMS = ak.TERMS
+#: The sums on offer: ``"full"`` (``total_*``, every term asked for: what closes the
+#: budget of a free body) and ``"without_centrifugal"`` (``total_without_centrifugal_*``,
+#: for users who count the centrifugal term in an effective gravity).
+TOTALS = ak.TOTALS
 
 _LABELS = {
     "coriolis": "Coriolis",
@@ -106,6 +110,7 @@ def apparent_accelerations(
     velocity: Mapping[str, str] | None = None,
     height: object = None,
     include_parameters: bool = False,
+    totals: str | Iterable[str] = "full",
 ) -> xr.Dataset:
     """The accelerations a rotating frame and turning local axes add, term by term.
 
@@ -161,12 +166,19 @@ def apparent_accelerations(
     include_parameters : bool, default False
         Also return ``coriolis_parameter`` (2Ω sin φ) and
         ``reciprocal_coriolis_parameter`` (2Ω cos φ) on the latitude's dimensions.
+    totals : str or iterable of str, default "full"
+        Which sums to return: ``"full"`` (``total_<component>``, the sum of
+        every term asked for, which closes the momentum budget of a free
+        body), ``"without_centrifugal"`` (``total_without_centrifugal_<component>``,
+        for users who fold the centrifugal term into an effective gravity and
+        would otherwise count it twice), both, or ``()`` for none.
 
     Returns
     -------
     xarray.Dataset
-        Variables ``<term>_<component>`` for each term asked for and
-        ``total_eastward``, ``total_northward``, ``total_upward``; float64, m s-2,
+        Variables ``<term>_<component>`` for each term asked for and the
+        sums asked for (by default ``total_eastward``, ``total_northward``,
+        ``total_upward``); float64, m s-2,
         on the velocity's dimensions and coordinates. No standard names: the
         CF table (v93) has none for these terms.
 
@@ -194,6 +206,7 @@ def apparent_accelerations(
     require_dataset(ds)
     check_frame(frame)
     chosen = _check_terms(terms)
+    sums = _check_totals(totals)
     traditional = bool(traditional)
     layout = _layout(ds, velocity, height)
     vset = layout.velocity
@@ -224,7 +237,7 @@ def apparent_accelerations(
     if lon_needed and "euler" in chosen:
         names.append("lon_deg")
         inputs.append(_plain(ds[layout.longitude]))
-    outputs = ak.output_names(chosen)
+    outputs = ak.output_names(chosen, sums)
     results = apply_kernel(
         ak.accelerations_named,
         *inputs,
@@ -236,12 +249,13 @@ def apparent_accelerations(
             "scale": tuple(scales),
             "terms": chosen,
             "traditional": traditional,
+            "totals": sums,
         },
     )
     common = _common_attrs(ds, layout, frame)
     variables = {}
     for name, data in zip(outputs, results, strict=True):
-        term, comp = name.split("_")
+        term, comp = name.rsplit("_", 1)
         attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
         data = data.variable  # in the velocity's dimension order, with one transpose
         variables[name] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
@@ -250,7 +264,7 @@ def apparent_accelerations(
         out = out.assign(_parameters(ds, layout.latitude, frame, omega))
     op = (
         f"apparent_accelerations(terms={list(chosen)}, traditional={traditional}, "
-        f"frame={frame.name!r}) from {list(vset.names())}"
+        f"totals={list(sums)}, frame={frame.name!r}) from {list(vset.names())}"
     )
     return stamp(out, op)
 
@@ -307,6 +321,20 @@ def _check_terms(terms: str | Iterable[str] | None) -> tuple[str, ...]:
             found=found,
         )
     return tuple(t for t in TERMS if t in asked)
+
+
+def _check_totals(totals: str | Iterable[str] | None) -> tuple[str, ...]:
+    asked = () if totals is None else (totals,) if isinstance(totals, str) else tuple(totals)
+    unknown = [t for t in asked if t not in TOTALS]
+    if unknown:
+        raise ConventionError(
+            f"totals= has unknown sums ({', '.join(map(repr, unknown))}); valid sums are "
+            f"{', '.join(map(repr, TOTALS))}",
+            variable="totals",
+            expected=" | ".join(TOTALS),
+            found=", ".join(map(repr, unknown)),
+        )
+    return tuple(t for t in TOTALS if t in asked)
 
 
 def _layout(ds: xr.Dataset, velocity, height) -> Layout:
@@ -390,11 +418,18 @@ def _common_attrs(ds: xr.Dataset, layout: Layout, frame: Planet) -> dict:
 
 def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
     attrs = dict(common)
-    if term == "total":
-        attrs["long_name"] = f"{comp} sum of apparent accelerations ({', '.join(chosen)})"
-        attrs["acceleration_term"] = "total"
-        attrs["terms_included"] = " ".join(chosen)
-        affected = traditional and ({"coriolis", "curvature"} & set(chosen))
+    if term.startswith("total"):
+        included = [t for t in chosen if term == "total" or t != "centrifugal"]
+        if term == "total":
+            attrs["long_name"] = (f"{comp} sum of all apparent accelerations asked for "
+                                  f"({', '.join(included)})")
+        else:
+            attrs["long_name"] = (f"{comp} sum of apparent accelerations without the "
+                                  f"centrifugal term ({', '.join(included) or 'none'}), for "
+                                  "use beside an effective gravity that includes it")
+        attrs["acceleration_term"] = term
+        attrs["terms_included"] = " ".join(included)
+        affected = traditional and ({"coriolis", "curvature"} & set(included))
     else:
         attrs["long_name"] = f"{comp} {_LABELS[term]} acceleration"
         attrs["acceleration_term"] = term
@@ -410,6 +445,7 @@ def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
             )
             attrs["comment"] = f"{attrs['comment']}; {note}" if "comment" in attrs else note
     attrs["acceleration_component"] = comp
+    attrs["traditional_approximation"] = "applied" if traditional else "not applied"
     if affected:
         attrs["approximation"] = _TRADITIONAL_NOTE
     return attrs

@@ -25,9 +25,10 @@ import warnings
 from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 
+import numpy as np
 import xarray as xr
 
-from frameshift.errors import ConventionError
+from frameshift.errors import ConventionError, MissingInputError, UnsupportedInputError
 from frameshift.storage import (
     DISK_CHUNK_BYTES,
     decode_labels,
@@ -40,11 +41,13 @@ from frameshift.storage import (
 __all__ = [
     "DISK_CHUNK_BYTES",
     "WORKING_COPIES",
+    "check_stored_attributes",
     "choose_chunks",
     "decode_labels",
     "default_memory",
     "disk_chunks",
     "encode_labels",
+    "input_format",
     "is_current",
     "manifest_path",
     "open_input",
@@ -189,13 +192,15 @@ def open_input(
     parallel: int = 1,
     combine: bool = False,
 ) -> tuple[xr.Dataset, xr.Dataset | None]:
-    """Open input lazily with budget-sized Dask chunks.
+    """Open NetCDF files or Zarr stores lazily, with budget-sized Dask chunks.
 
     Returns ``(decoded, raw)``: the CF-decoded Dataset to compute on, and for
-    a single file the same file undecoded (``decode_cf=False``), from which
+    a single input the same input undecoded (``decode_cf=False``), from which
     untouched variables are copied byte for byte; ``raw`` is None when
     several files are combined along time (their stored encodings may differ).
-    Close both when done.
+    A Zarr store is a directory named ``*.zarr`` (see :func:`input_format`).
+    Attributes that would make decoding fail half-way (a ``scale_factor``
+    stored as text) are refused first, naming the variable. Close both when done.
 
     Examples
     --------
@@ -203,24 +208,101 @@ def open_input(
     """
     memory = default_memory() if memory is None else memory
     files = [paths] if isinstance(paths, str | os.PathLike) else list(paths)
-    with xr.open_dataset(files[0], chunks=None) as probe:
+    engine = _engine(files[0])
+    for file in files:
+        with xr.open_dataset(file, chunks=None, engine=engine, decode_cf=False) as undecoded:
+            check_stored_attributes(undecoded, file)
+    with xr.open_dataset(files[0], chunks=None, engine=engine) as probe:
         chunks = choose_chunks(probe, memory, parallel=parallel)
     with warnings.catch_warnings():
         # a budget smaller than one stored chunk must split it; xarray warns about that
         warnings.filterwarnings("ignore", "The specified chunks separate", UserWarning)
-        return _open(files, chunks, combine)
+        return _open(files, chunks, combine, engine)
 
 
-def _open(files: list, chunks: dict, combine: bool) -> tuple[xr.Dataset, xr.Dataset | None]:
+def input_format(path: str | os.PathLike) -> str:
+    """``"zarr"`` for a Zarr store (a directory named ``*.zarr``, or one holding Zarr
+    metadata), else ``"netcdf"``.
+
+    Examples
+    --------
+    >>> input_format("winds.nc"), input_format("winds.zarr")
+    ('netcdf', 'zarr')
+    """
+    path = Path(path)
+    if path.suffix.lower() == ".zarr":
+        return "zarr"
+    if path.is_dir() and any((path / m).exists() for m in (".zgroup", "zarr.json", ".zmetadata")):
+        return "zarr"
+    return "netcdf"
+
+
+def _engine(path: str | os.PathLike) -> str:
+    if input_format(path) == "zarr":
+        _require_zarr()
+        return "zarr"
+    return "netcdf4"
+
+
+def _require_zarr() -> None:
+    try:
+        import zarr  # noqa: F401
+    except ImportError as exc:
+        raise MissingInputError(
+            "reading or writing Zarr stores needs the zarr package: "
+            "pip install 'frameshift[zarr]'",
+            variable="format",
+            expected="zarr installed",
+            found="zarr not installed",
+        ) from exc
+
+
+#: Attributes CF requires to be numbers: as text they would fail half-way through a write.
+NUMERIC_ATTRIBUTES = ("scale_factor", "add_offset", "_FillValue", "missing_value",
+                      "valid_min", "valid_max", "valid_range")
+
+
+def check_stored_attributes(raw: xr.Dataset, where: object = "") -> None:
+    """Refuse numeric variables whose packing or fill attributes are stored as text.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> raw = xr.Dataset({"u": ("x", [1], {"scale_factor": "0.01"})})
+    >>> check_stored_attributes(raw)
+    Traceback (most recent call last):
+    ...
+    frameshift.errors.UnsupportedInputError: variable 'u' has scale_factor stored as text ...
+    """
+    place = f" in {os.fspath(where)}" if where else ""
+    for name, var in raw.variables.items():
+        if var.dtype.kind not in "iuf":
+            continue
+        for key in NUMERIC_ATTRIBUTES:
+            value = var.attrs.get(key)
+            if isinstance(value, str | bytes | np.str_ | np.bytes_) or (
+                    isinstance(value, np.ndarray) and value.dtype.kind in "SUO"):
+                raise UnsupportedInputError(
+                    f"variable {name!r} has {key} stored as text ({value!r}){place}; CF "
+                    f"needs a number here. Rewrite the attribute as a number (e.g. "
+                    f"ncatted -a {key},{name},o,f,<value>) and run again",
+                    variable=str(name),
+                    expected=f"a numeric {key}",
+                    found=f"text {value!r}",
+                )
+
+
+def _open(files: list, chunks: dict, combine: bool,
+          engine: str) -> tuple[xr.Dataset, xr.Dataset | None]:
     if combine or len(files) > 1:
         ds = xr.open_mfdataset(
             files, combine="by_coords", data_vars="minimal", coords="minimal",
-            compat="override", chunks=chunks, engine="netcdf4",
+            compat="override", chunks=chunks, engine=engine,
         )
         return decode_labels(ds), None
-    ds = xr.open_dataset(files[0], chunks=chunks, engine="netcdf4")
+    ds = xr.open_dataset(files[0], chunks=chunks, engine=engine)
     try:
-        raw = xr.open_dataset(files[0], chunks=chunks, engine="netcdf4", decode_cf=False)
+        raw = xr.open_dataset(files[0], chunks=chunks, engine=engine, decode_cf=False)
     except BaseException:
         ds.close()
         raise

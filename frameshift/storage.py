@@ -196,10 +196,11 @@ def plan_output(
         is_coord = name in coords
         if old is not None and _same_data(var, old) and _same_attrs(var.attrs, old.attrs):
             how[name] = "copied"
-            if raw is not None and name in raw.variables and raw.variables[name].dtype.kind != "S":
-                # as stored; char arrays come decoded (xarray re-encodes them exactly)
-                new = raw.variables[name].copy(deep=False)
-                new.encoding = _storage(raw.variables[name].encoding, target)
+            if raw is not None and name in raw.variables and (
+                    raw.variables[name].dtype.kind != "S" or not is_coord):
+                # as stored; char coordinates come decoded, so that the variables they
+                # label keep them in 'coordinates' (xarray re-encodes them exactly)
+                new = _as_stored(raw.variables[name], target)
             else:
                 new = var.copy(deep=False)
                 new.encoding = _storage(var.encoding, target)
@@ -227,6 +228,22 @@ def plan_output(
     data_vars = {n: v for n, v in variables.items() if n not in coords}
     coord_vars = {n: v for n, v in variables.items() if n in coords}
     return xr.Dataset(data_vars, coords=coord_vars, attrs=dict(out.attrs)), how
+
+
+def _as_stored(raw: xr.Variable, target: str) -> xr.Variable:
+    """An undecoded variable, to be written back exactly as it was stored."""
+    new = raw.copy(deep=False)
+    new.encoding = _storage(raw.encoding, target)
+    if raw.dtype == np.dtype("S1") and raw.ndim:
+        # a char array: its last dimension joins the characters back (as xarray
+        # decodes them) and is named again on writing, with the same length
+        data = np.ascontiguousarray(np.asarray(raw.values))
+        joined = data.view(f"S{data.shape[-1]}").reshape(data.shape[:-1])
+        new = xr.Variable(raw.dims[:-1], joined, dict(raw.attrs))
+        new.encoding = {**_storage(raw.encoding, target), "char_dim_name": raw.dims[-1]}
+    if "coordinates" not in raw.attrs:
+        new.encoding["coordinates"] = None  # xarray would otherwise name scalar coordinates
+    return new
 
 
 def _storage(encoding: Mapping, target: str) -> dict:
