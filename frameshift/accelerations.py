@@ -445,7 +445,10 @@ def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
             )
             attrs["comment"] = f"{attrs['comment']}; {note}" if "comment" in attrs else note
     attrs["acceleration_component"] = comp
-    attrs["traditional_approximation"] = "applied" if traditional else "not applied"
+    made_of = attrs["terms_included"].split() if term.startswith("total") else [term]
+    if {"coriolis", "curvature"} & set(made_of):
+        # the setting that changes these values, whichever way it went
+        attrs["traditional_approximation"] = "applied" if traditional else "not applied"
     if affected:
         attrs["approximation"] = _TRADITIONAL_NOTE
     return attrs

@@ -37,10 +37,13 @@ __all__ = [
     "compute_context",
     "convert_operation",
     "find_inputs",
+    "is_cartesian",
+    "output_format",
     "plan_jobs",
     "process",
     "run",
     "terms_operation",
+    "with_format_suffix",
 ]
 
 _HAS_MAGIC = set("*?[")
@@ -66,25 +69,85 @@ class Operation:
         if self.command == "convert":
             from frameshift.transforms import to_inertial, to_rotating
 
-            func = to_inertial if s.pop("to") == "inertial" else to_rotating
+            to = s.pop("to")
+            if s["basis"] == "auto":  # what the file says it holds
+                s["basis"] = "cartesian" if is_cartesian(ds) else "local"
+            if s["celestial"] is None:
+                s["celestial"] = _axes_of(ds) if to == "rotating" else "cirs"
+            if s["dut1"] is None:  # the value the Cartesian file was made with, else 0
+                s["dut1"] = _dut1_of(ds) if to == "rotating" else 0.0
+            if s["basis"] == "local":
+                s.pop("celestial")
+                s.pop("dut1")
+            func = to_inertial if to == "inertial" else to_rotating
             return func(ds, **s)
+        keep_input = s.pop("keep_input", False)
         apparent_accelerations = _accelerations()
         result = apparent_accelerations(ds, **s)
         attrs = {**ds.attrs, **result.attrs}
         set_conventions(attrs)
+        if keep_input:  # the input's variables as they were, the terms beside them
+            clash = sorted(set(result.data_vars) & set(ds.variables))
+            if clash:
+                raise ConventionError(
+                    f"the input already has variables named like the terms ({clash}); "
+                    "they cannot be kept beside them",
+                    variable=clash[0],
+                    expected="no input variable named like a term",
+                    found=", ".join(clash),
+                )
+            return ds.assign(dict(result.data_vars)).assign_attrs(attrs)
         return result.assign_attrs(attrs)
+
+
+def is_cartesian(ds: xr.Dataset) -> bool:
+    """Whether ``ds`` holds ``position`` and ``velocity`` on a ``component`` axis (as
+    ``--basis cartesian`` writes them).
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> is_cartesian(xr.Dataset())
+    False
+    """
+    return all(n in ds.data_vars and "component" in ds[n].dims for n in ("position", "velocity"))
+
+
+def _dut1_of(ds: xr.Dataset) -> float:
+    """The UT1 - UTC (s) a Cartesian file records it was made with, else 0."""
+    if "velocity" in ds.data_vars:
+        try:
+            return float(ds["velocity"].attrs.get("ut1_minus_utc_seconds", 0.0))
+        except (TypeError, ValueError):
+            return 0.0
+    return 0.0
+
+
+def _axes_of(ds: xr.Dataset) -> str:
+    """The inertial axes a Cartesian file says it is on (``inertial_axes``), else CIRS."""
+    if "velocity" in ds.data_vars:
+        axes = str(ds["velocity"].attrs.get("inertial_axes", "cirs")).lower()
+        if axes in ("cirs", "gcrs"):
+            return axes
+    return "cirs"
 
 
 def convert_operation(
     to: str = "inertial",
     *,
     basis: str = "local",
-    celestial: str = "cirs",
+    celestial: str | None = "cirs",
     velocity: Mapping[str, str] | None = None,
     height: float | str | None = None,
-    dut1: float = 0.0,
+    dut1: float | None = 0.0,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
+
+    ``basis="auto"`` takes the basis from each file (Cartesian ``position`` and
+    ``velocity`` on a ``component`` axis, or local components);
+    ``celestial=None`` takes the inertial axes a Cartesian file records
+    (``inertial_axes``) when converting back, and ``dut1=None`` the UT1 - UTC it
+    records (``ut1_minus_utc_seconds``).
 
     Examples
     --------
@@ -92,8 +155,11 @@ def convert_operation(
     'cartesian'
     """
     check_choice("to", to, ("inertial", "rotating"))
+    check_choice("basis", basis, ("local", "cartesian", "auto"))
+    if celestial is not None:
+        check_choice("celestial", celestial, ("cirs", "gcrs"))
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
-                "height": height, "dut1": float(dut1)}
+                "height": height, "dut1": None if dut1 is None else float(dut1)}
     return Operation("convert", settings)
 
 
@@ -104,8 +170,13 @@ def terms_operation(
     velocity: Mapping[str, str] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
+    totals: Sequence[str] = ("full",),
+    keep_input: bool = False,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
+
+    ``keep_input=True`` writes the input's variables, as they were, beside the
+    terms, so that a budget needs one file.
 
     Examples
     --------
@@ -114,7 +185,8 @@ def terms_operation(
     """
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
-                "include_parameters": bool(include_parameters)}
+                "include_parameters": bool(include_parameters), "totals": list(totals),
+                "keep_input": bool(keep_input)}
     return Operation("terms", settings)
 
 
@@ -152,6 +224,8 @@ class RunOptions:
     combined_name: str = "combined.nc"
     command: str = "frameshift"
     progress: bool | None = None  # None: only when stderr is a terminal and not quiet
+    precision: str = "input"  # storage of computed variables: the input's, or "float64"
+    output_format: str | None = None  # "netcdf" or "zarr"; None: by the output's suffix
 
     def show_progress(self) -> bool:
         if self.quiet:
@@ -236,9 +310,11 @@ def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
                 found="nothing",
             )
         for match in map(Path, matches):
-            if match.is_dir():
+            if match.is_dir() and io.input_format(match) != "zarr":
                 files = sorted(p for p in match.rglob("*.nc") if p.is_file())
-                pairs = [(p, match) for p in files]
+                stores = sorted(p for p in match.rglob("*.zarr") if p.is_dir())
+                pairs = [(p, match) for p in files + stores
+                         if not any(s in p.parents for s in stores)]
             else:
                 pairs = [(match, match.parent)]
             for file, root in pairs:
@@ -400,7 +476,9 @@ def process(
 
     ``KeyboardInterrupt`` is not caught: it propagates once the temporary file is gone.
     """
-    settings = {"command": operation.command, **operation.settings}
+    fmt = output_format(job.output, options.output_format)
+    settings = {"command": operation.command, **operation.settings,
+                "precision": options.precision, "format": fmt}
     start = time.perf_counter()
     if not options.overwrite:
         current, why = io.is_current(job.output, job.inputs, settings)
@@ -412,10 +490,11 @@ def process(
         try:
             result = operation.apply(ds)
             result = _provenance(result, ds.attrs.get("history"), options.command)
-            to_write, _ = io.prepare_output(result, ds, raw)
+            to_write, _ = io.prepare_output(result, ds, raw, precision=options.precision,
+                                            target=fmt)
             io.manifest_path(job.output).unlink(missing_ok=True)
-            io.write_atomic(to_write, job.output,
-                            compute=_computer(client, bar_factory or _no_bar))
+            write = io.write_store_atomic if fmt == "zarr" else io.write_atomic
+            write(to_write, job.output, compute=_computer(client, bar_factory or _no_bar))
         finally:
             ds.close()
             if raw is not None:
@@ -431,6 +510,31 @@ def process(
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
     return Outcome(job, "written", seconds=time.perf_counter() - start)
+
+
+def output_format(path: str | os.PathLike, asked: str | None = None) -> str:
+    """``asked`` if given, else ``"zarr"`` for a ``*.zarr`` output and ``"netcdf"`` otherwise.
+
+    Examples
+    --------
+    >>> output_format("out/a.zarr"), output_format("out/a.nc"), output_format("a.nc", "zarr")
+    ('zarr', 'netcdf', 'zarr')
+    """
+    if asked is not None:
+        return check_choice("format", asked, ("netcdf", "zarr"))
+    return "zarr" if Path(path).suffix.lower() == ".zarr" else "netcdf"
+
+
+def with_format_suffix(path: Path, fmt: str) -> Path:
+    """The output path with the suffix of its format (``.zarr`` or ``.nc``).
+
+    Examples
+    --------
+    >>> with_format_suffix(Path("out/a.nc"), "zarr").name
+    'a.zarr'
+    """
+    suffix = ".zarr" if fmt == "zarr" else ".nc"
+    return path if path.suffix.lower() == suffix else path.with_suffix(suffix)
 
 
 def _one_line(exc: BaseException) -> str:
@@ -479,6 +583,9 @@ def run(
     """
     jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
                      combined_name=options.combined_name)
+    if options.output_format is not None:
+        jobs = [Job(j.inputs, with_format_suffix(j.output, options.output_format))
+                for j in jobs]
     summary = Summary()
     show = options.show_progress()
     from tqdm.auto import tqdm

@@ -9,6 +9,7 @@ Run ``frameshift SUBCOMMAND --help`` for options and examples.
 from __future__ import annotations
 
 import argparse
+import re
 import shlex
 import sys
 from collections.abc import Mapping, Sequence
@@ -22,7 +23,53 @@ if TYPE_CHECKING:
 
     from frameshift.batch import Operation, RunOptions
 
-__all__ = ["build_parser", "describe", "main", "parse_height", "parse_velocity"]
+__all__ = ["build_parser", "check_usage", "cli_wording", "describe", "failure_line", "main",
+           "parse_height", "parse_terms", "parse_velocity"]
+
+#: The term names ``--terms`` takes (as frameshift.accelerations.TERMS).
+TERM_NAMES = ("coriolis", "centrifugal", "euler", "curvature")
+#: Storage precisions ``--precision`` takes (as frameshift.storage.PRECISIONS).
+PRECISIONS = ("input", "float64")
+_TOTAL_CHOICES = ("full", "without-centrifugal", "both", "none")
+_TOTALS = {"full": ("full",), "without-centrifugal": ("without_centrifugal",),
+           "both": ("full", "without_centrifugal"), "none": ()}
+#: Command-line options that a refusal's ``variable`` can name.
+_OPTIONS = {"terms": "--terms", "totals": "--totals", "celestial": "--celestial",
+            "dut1": "--dut1", "height": "--height", "velocity": "--velocity",
+            "memory": "--memory", "workers": "--workers", "scheduler": "--scheduler",
+            "out": "--out", "precision": "--precision", "format": "--format",
+            "basis": "--basis", "to": "--to", "inputs": "INPUT"}
+# Python spellings in library messages, and the command-line options that say the same
+_WORDING = [
+    (re.compile(r"velocity=\{[^}]*\}"), "--velocity eastward=NAME,northward=NAME[,upward=NAME]"),
+    (re.compile(r"frameshift\.to_rotating(\(\))?"), "'frameshift convert --to rotating'"),
+    (re.compile(r"frameshift\.to_inertial(\(\))?"), "'frameshift convert --to inertial'"),
+    (re.compile(r"to_rotating\(basis='cartesian'\)"), "convert --to rotating --basis cartesian"),
+    (re.compile(r"to_inertial\(basis='cartesian'\)"), "convert --basis cartesian"),
+    (re.compile(r"\bbasis='(\w+)'"), r"--basis \1"),
+    (re.compile(r"\bcelestial='(\w+)'"), r"--celestial \1"),
+    (re.compile(r"\bcelestial=(?=\W)"), "--celestial "),
+    (re.compile(r"\b(velocity|height|terms|totals)= and (velocity|height|terms|totals)="),
+     r"--\1 and --\2"),
+    (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=\W|$)"), r"--\1"),
+    (re.compile(r"\bpass --height"), "give --height"),
+]
+
+
+def cli_wording(text: str) -> str:
+    """A library message in command-line words: options instead of Python arguments.
+
+    Examples
+    --------
+    >>> cli_wording("pick one with velocity={'eastward': ..., 'northward': ...}")
+    'pick one with --velocity eastward=NAME,northward=NAME[,upward=NAME]'
+    >>> cli_wording("Convert it back with frameshift.to_rotating first")
+    "Convert it back with 'frameshift convert --to rotating' first"
+    """
+    text = " ".join(str(text).split())
+    for pattern, words in _WORDING:
+        text = pattern.sub(words, text)
+    return text
 
 _EPILOG_CONVERT = """\
 examples:
@@ -91,6 +138,23 @@ def parse_velocity(text: str) -> dict[str, str]:
     return mapping
 
 
+def parse_terms(text: str) -> list[str]:
+    """Read ``coriolis,curvature`` into a list of term names, refusing unknown ones.
+
+    Examples
+    --------
+    >>> parse_terms("coriolis, curvature")
+    ['coriolis', 'curvature']
+    """
+    names = [t.strip() for t in text.split(",") if t.strip()]
+    unknown = [t for t in names if t not in TERM_NAMES]
+    if unknown or not names:
+        raise argparse.ArgumentTypeError(
+            f"unknown term(s) {', '.join(unknown) or '(none given)'}; choose from "
+            f"{', '.join(TERM_NAMES)}")
+    return names
+
+
 def parse_height(text: str | None) -> float | str | None:
     """A height in metres, or the name of the variable holding it.
 
@@ -111,7 +175,8 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
     from frameshift.io import default_memory
 
     parser.add_argument("inputs", nargs="+", metavar="INPUT",
-                        help="NetCDF files, glob patterns or directories (searched for *.nc)")
+                        help="NetCDF files, Zarr stores (*.zarr), glob patterns or directories "
+                        "(searched for *.nc and *.zarr)")
     if not writes:
         return
     parser.add_argument("--out", required=True, metavar="DIR",
@@ -133,8 +198,16 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
     parser.add_argument("--combine", action="store_true",
                         help="open all inputs together as one dataset along time and write "
                         "one output (--combined-name)")
-    parser.add_argument("--combined-name", default="combined.nc", metavar="NAME",
-                        help="file name of the --combine output (default combined.nc)")
+    parser.add_argument("--combined-name", default=None, metavar="NAME",
+                        help="file name of the --combine output (default combined.nc; "
+                        "combined.zarr with --format zarr)")
+    parser.add_argument("--precision", choices=PRECISIONS, default="input",
+                        help="how computed variables are stored: 'input' (the input's "
+                        "precision: float32 from float32 or packed 16-bit integers, else "
+                        "float64) or 'float64'; computing is always float64 (default input)")
+    parser.add_argument("--format", choices=("netcdf", "zarr"), default=None, dest="format",
+                        help="output format: 'netcdf' (*.nc files) or 'zarr' (*.zarr "
+                        "directory stores, needs the zarr extra); default: the input's")
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
@@ -173,15 +246,21 @@ def build_parser() -> argparse.ArgumentParser:
                           "Earth-rotating frame and the inertial frame.",
                           epilog=_EPILOG_CONVERT, formatter_class=fmt)
     _common(conv)
+    conv.set_defaults(subparser=conv)
     conv.add_argument("--to", choices=("inertial", "rotating"), default="inertial",
                       help="frame to convert to (default inertial)")
-    conv.add_argument("--basis", choices=("local", "cartesian"), default="local",
-                      help="local east/north/up axes, or inertial x/y/z position and velocity "
-                      "(default local)")
-    conv.add_argument("--celestial", choices=("cirs", "gcrs"), default="cirs",
-                      help="inertial axes for --basis cartesian (default cirs)")
-    conv.add_argument("--dut1", type=float, default=0.0, metavar="SECONDS",
-                      help="UT1 - UTC in seconds for --basis cartesian (default 0)")
+    conv.add_argument("--basis", choices=("local", "cartesian"), default=None,
+                      help="local: east/north/up components on the same local axes; "
+                      "cartesian: inertial x/y/z position and velocity (variables 'position' "
+                      "and 'velocity' on a 'component' axis). Default: local for --to "
+                      "inertial; for --to rotating, what each file holds")
+    conv.add_argument("--celestial", choices=("cirs", "gcrs"), default=None,
+                      help="inertial axes of the Cartesian basis: cirs (Earth rotation angle "
+                      "only) or gcrs (also precession-nutation; needs pyerfa). Default cirs; "
+                      "for --to rotating, the axes the file records")
+    conv.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
+                      help="UT1 - UTC in seconds, within [-1, 1], for the Cartesian basis "
+                      "(default 0)")
     _velocity_options(conv)
 
     terms = sub.add_parser("terms", help="write apparent-acceleration terms (m s-2)",
@@ -189,12 +268,28 @@ def build_parser() -> argparse.ArgumentParser:
                            "adds (one variable per term and component, and their total).",
                            epilog=_EPILOG_TERMS, formatter_class=fmt)
     _common(terms)
-    terms.add_argument("--terms", default=None, metavar="NAME[,NAME...]",
-                       help="comma-separated terms to write (default: all)")
+    terms.set_defaults(subparser=terms)
+    terms.add_argument("--terms", default=None, type=parse_terms, metavar="NAME[,NAME...]",
+                       help="comma-separated terms to write, of: " + ", ".join(TERM_NAMES)
+                       + " (default: all four)")
     terms.add_argument("--traditional", action="store_true",
-                       help="use the traditional approximation (horizontal Coriolis only)")
+                       help="the traditional (shallow-fluid) approximation: drop the 2 Omega "
+                       "cos(lat) Coriolis terms (-2 Omega cos(lat) w eastward, 2 Omega "
+                       "cos(lat) u upward) and the curvature terms in w or upward (-u w/(N+h), "
+                       "-v w/(M+h), u^2/(N+h) + v^2/(M+h)); the upward Coriolis and curvature "
+                       "components become 0. Changes coriolis and curvature only")
+    terms.add_argument("--totals", choices=_TOTAL_CHOICES, default="full",
+                       help="sums to write: full (total_*: every term written, what closes "
+                       "the budget of a free body), without-centrifugal "
+                       "(total_without_centrifugal_*: for use beside an effective gravity "
+                       "that already holds the centrifugal term), both, or none "
+                       "(default full)")
+    terms.add_argument("--keep-input", action="store_true",
+                       help="write the input's variables, unchanged, beside the terms (one "
+                       "file for a momentum budget)")
     terms.add_argument("--include-parameters", action="store_true",
-                       help="also write the parameters the terms are made of")
+                       help="also write coriolis_parameter (2 Omega sin(lat)) and "
+                       "reciprocal_coriolis_parameter (2 Omega cos(lat))")
     _velocity_options(terms)
 
     insp = sub.add_parser("inspect", help="show what frameshift finds in files",
@@ -203,9 +298,13 @@ def build_parser() -> argparse.ArgumentParser:
                           "operations it would refuse and why. Reads only metadata.",
                           epilog=_EPILOG_INSPECT, formatter_class=fmt)
     _common(insp, writes=False)
-    insp.add_argument("--velocity", type=parse_velocity, default=None,
-                      metavar="eastward=U,northward=V[,upward=W]",
-                      help="name the velocity components instead of finding them")
+    insp.set_defaults(subparser=insp)
+    _velocity_options(insp)
+    insp.add_argument("--celestial", choices=("cirs", "gcrs"), default=None,
+                      help="inertial axes to check the Cartesian conversions with (default: "
+                      "cirs, or the axes a Cartesian file records)")
+    insp.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
+                      help="UT1 - UTC in seconds to check the Cartesian conversions with")
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
 
     demo = sub.add_parser("demo", help="run frameshift on the bundled invented demo data",
@@ -224,6 +323,7 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
     from frameshift.batch import RunOptions
     from frameshift.io import default_memory, parse_memory
 
+    combined = args.combined_name or ("combined.zarr" if args.format == "zarr" else "combined.nc")
     return RunOptions(
         out_dir=Path(args.out),
         overwrite=args.overwrite,
@@ -233,36 +333,99 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
         workers=args.workers,
         scheduler=args.scheduler,
         combine=args.combine,
-        combined_name=args.combined_name,
+        combined_name=combined,
         command=command,
+        precision=args.precision,
+        output_format=args.format,
     )
+
+
+def check_usage(parser: argparse.ArgumentParser, args: argparse.Namespace) -> None:
+    """Refuse options that would do nothing in the mode chosen (a usage error, exit 2).
+
+    Examples
+    --------
+    >>> parser = build_parser()
+    >>> check_usage(parser, parser.parse_args(["convert", "a.nc", "--out", "o"]))
+    """
+    useless: list[str] = []
+    if args.command in ("convert", "terms"):
+        if args.combined_name is not None and not args.combine:
+            useless.append("--combined-name names the output of --combine, which is not given")
+        if args.workers is not None and args.scheduler is not None:
+            useless.append("--workers starts a local cluster and --scheduler uses a running "
+                           "one: give one of them")
+    if args.command == "convert":
+        local = args.basis == "local" or (args.basis is None and args.to == "inertial")
+        for option, value in (("--celestial", args.celestial), ("--dut1", args.dut1)):
+            if value is not None and local:
+                useless.append(f"{option} sets the Cartesian basis, and the basis is local "
+                               "(add --basis cartesian, or leave it out)")
+        if args.to == "rotating" and args.basis == "cartesian":
+            for option, value in (("--velocity", args.velocity), ("--height", args.height)):
+                if value is not None:
+                    useless.append(f"{option} does not apply to --to rotating --basis "
+                                   "cartesian: the file's position and velocity say it all")
+    if args.command == "terms":
+        chosen = set(args.terms or TERM_NAMES)
+        if args.traditional and not chosen & {"coriolis", "curvature"}:
+            useless.append("--traditional changes only the coriolis and curvature terms, "
+                           f"and --terms asks for {','.join(args.terms)}")
+    if useless:
+        getattr(args, "subparser", parser).error("; ".join(useless))
 
 
 def _run_batch(args: argparse.Namespace, command: str) -> int:
     from frameshift import batch
 
     if args.command == "convert":
+        basis = args.basis or ("local" if args.to == "inertial" else "auto")
         operation = batch.convert_operation(
-            args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
+            args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
             height=parse_height(args.height), dut1=args.dut1,
         )
     else:
-        names = [t.strip() for t in args.terms.split(",") if t.strip()] if args.terms else None
         operation = batch.terms_operation(
-            names, traditional=args.traditional, velocity=args.velocity,
+            args.terms, traditional=args.traditional, velocity=args.velocity,
             height=parse_height(args.height), include_parameters=args.include_parameters,
+            totals=_TOTALS[args.totals], keep_input=args.keep_input,
         )
     summary = batch.run(args.inputs, operation, _options(args, command))
     failed = [o for o in summary.outcomes if o.status in ("failed", "interrupted")]
     if not args.quiet or failed:
         print(f"frameshift {args.command}: {summary.totals()}", file=sys.stderr)
     for outcome in failed:
-        print(outcome.line(), file=sys.stderr)
+        print(failure_line(outcome), file=sys.stderr)
     return summary.exit_code
+
+
+def failure_line(outcome: object) -> str:
+    """A failed outcome in command-line words: the option it concerns, or the variable.
+
+    Examples
+    --------
+    >>> from pathlib import Path
+    >>> from frameshift.batch import Job, Outcome
+    >>> o = Outcome(Job((Path("a.nc"),), Path("o/a.nc")), "failed", "terms= has no terms",
+    ...             variable="terms")
+    >>> failure_line(o)
+    'FAILED a.nc (option --terms): --terms has no terms'
+    """
+    source = ", ".join(map(str, outcome.job.inputs))
+    name = outcome.variable
+    where = ""
+    if name in _OPTIONS:
+        where = f" (option {_OPTIONS[name]})"
+    elif name:
+        where = f" (variable {name!r})"
+    return f"{outcome.status.upper()} {source}{where}: {cli_wording(outcome.reason)}"
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status.
+
+    Exit status: 0 when every file succeeded, 1 when a file failed, 2 for a
+    usage error (an unknown or useless option, a bad value), 130 when interrupted.
 
     Examples
     --------
@@ -272,17 +435,23 @@ def main(argv: Sequence[str] | None = None) -> int:
     args_list = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(args_list)
+    check_usage(parser, args)
     command = shlex.join(["frameshift", *args_list])
     try:
         if args.command in ("convert", "terms"):
             return _run_batch(args, command)
         if args.command == "inspect":
-            return _inspect(args.inputs, velocity=args.velocity, as_json=args.json)
+            return _inspect(args.inputs, velocity=args.velocity, as_json=args.json,
+                            settings={"height": parse_height(args.height),
+                                      "celestial": args.celestial, "dut1": args.dut1})
         from frameshift import demo
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
-        print(f"frameshift {args.command}: error: {' '.join(str(exc).split())}", file=sys.stderr)
+        option = _OPTIONS.get(getattr(exc, "variable", None) or "")
+        where = f" ({option})" if option and option != "INPUT" else ""
+        print(f"frameshift {args.command}: error{where}: {cli_wording(str(exc))}",
+              file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print(f"frameshift {args.command}: interrupted", file=sys.stderr)
@@ -290,12 +459,21 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 # --- inspect ----------------------------------------------------------------------------
-def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
+def describe(
+    ds: xr.Dataset,
+    velocity: Mapping[str, str] | None = None,
+    *,
+    height: float | str | None = None,
+    celestial: str | None = None,
+    dut1: float | None = None,
+) -> dict:
     """What frameshift finds in ``ds`` and what each operation would do with it.
 
     Detection is :func:`frameshift.detect.find_layout`; whether an operation
-    would be refused is found by running it lazily (no data are computed) and
-    keeping its error.
+    would be refused is found by running it lazily (no data are computed),
+    with the options that decide it (``velocity``, ``height``, ``celestial``,
+    ``dut1``; a Cartesian file's own ``inertial_axes`` when ``celestial`` is
+    not given), and keeping its error.
 
     Examples
     --------
@@ -309,7 +487,7 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
     layout, error = None, None
     for target in (INERTIAL, ROTATING):
         try:
-            layout = find_layout(ds, velocity, target=target)
+            layout = find_layout(ds, velocity, height=height, target=target)
             break
         except FrameshiftError as exc:
             error = error or exc
@@ -343,7 +521,7 @@ def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
         )
         report["notes"] = list(layout.notes)
     report["time"] = _time_report(ds, layout)
-    report["operations"] = _operations(ds, velocity)
+    report["operations"] = _operations(ds, velocity, height, celestial, dut1)
     return report
 
 
@@ -372,16 +550,23 @@ def _time_report(ds: xr.Dataset, layout: object) -> dict | None:
             "last": str(values.max()) if values.size else None}
 
 
-def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None) -> dict:
+def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None, height, celestial,
+                dut1) -> dict:
     from frameshift import batch
 
     ops = {}
     for to in ("inertial", "rotating"):
         for basis in ("local", "cartesian"):
             label = f"convert --to {to} --basis {basis}"
-            vel = velocity if not (to == "rotating" and basis == "cartesian") else None
-            ops[label] = _try(batch.convert_operation(to, basis=basis, velocity=vel), ds)
-    ops["terms"] = _try(batch.terms_operation(velocity=velocity), ds)
+            if basis == "local":
+                op = batch.convert_operation(to, basis=basis, velocity=velocity, height=height)
+            elif to == "inertial":
+                op = batch.convert_operation(to, basis=basis, velocity=velocity, height=height,
+                                             celestial=celestial or "cirs", dut1=dut1 or 0.0)
+            else:  # the file's position and velocity, on the axes it records
+                op = batch.convert_operation(to, basis=basis, celestial=celestial, dut1=dut1)
+            ops[label] = _try(op, ds)
+    ops["terms"] = _try(batch.terms_operation(velocity=velocity, height=height), ds)
     return ops
 
 
@@ -389,21 +574,18 @@ def _try(operation: Operation, ds: xr.Dataset) -> str:
     try:
         operation.apply(ds)
     except FrameshiftError as exc:
-        return "refused: " + " ".join(str(exc).split())
+        return "refused: " + cli_wording(str(exc))
     except (ValueError, TypeError, KeyError) as exc:
-        return f"refused: {type(exc).__name__}: {' '.join(str(exc).split())}"
+        return f"refused: {type(exc).__name__}: {cli_wording(str(exc))}"
     return "ok"
 
 
 def _reason(exc: BaseException | None) -> str:
-    text = " ".join(str(exc).split())
-    if getattr(exc, "variable", None):
-        text += f" [variable={exc.variable}; expected {exc.expected}; found {exc.found}]"
-    return text
+    return cli_wording(str(exc))
 
 
 def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None,
-             as_json: bool = False) -> int:
+             as_json: bool = False, settings: Mapping | None = None) -> int:
     import json
 
     from frameshift.batch import find_inputs
@@ -416,7 +598,10 @@ def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None
             ds, raw = open_input(file)
             raw.close()
             with ds:
-                entry.update(describe(ds, velocity))
+                entry.update(describe(ds, velocity, **dict(settings or {})))
+        except FrameshiftError as exc:
+            entry["error"] = cli_wording(str(exc))
+            status = 1
         except (OSError, ValueError, TypeError) as exc:
             entry["error"] = f"{type(exc).__name__}: {' '.join(str(exc).split())}"
             status = 1

@@ -41,6 +41,7 @@ from frameshift.storage import (
 __all__ = [
     "DISK_CHUNK_BYTES",
     "WORKING_COPIES",
+    "ZARR_FORMAT",
     "check_stored_attributes",
     "choose_chunks",
     "decode_labels",
@@ -55,6 +56,7 @@ __all__ = [
     "prepare_output",
     "write_atomic",
     "write_manifest",
+    "write_store_atomic",
 ]
 
 #: How many chunk-sized float64 arrays one Dask task may hold at once (inputs
@@ -63,6 +65,9 @@ __all__ = [
 WORKING_COPIES = 32
 #: Dimensions never split across Dask chunks (kernels need them whole).
 WHOLE_DIMS = ("component",)
+#: Zarr format of the stores frameshift writes (2: read by every Zarr reader, with
+#: consolidated metadata in ``.zmetadata``).
+ZARR_FORMAT = 2
 _MANIFEST_SUFFIX = ".frameshift.json"
 _MANIFEST_FORMAT = 1
 
@@ -382,6 +387,61 @@ def write_atomic(
     return path
 
 
+def write_store_atomic(
+    ds: xr.Dataset,
+    path: str | os.PathLike,
+    *,
+    compute: Callable[[object], object] | None = None,
+) -> Path:
+    """Write ``ds`` as a Zarr store at ``path`` so that ``path`` only ever holds a whole store.
+
+    The store is written (``to_zarr(compute=False)``, consolidated metadata)
+    into a hidden temporary directory beside ``path``, computed by
+    ``compute``, its files flushed, and renamed into place; a store already at
+    ``path`` is moved aside first and removed after the rename. On any
+    failure the temporary store is removed and the error re-raised.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> write_store_atomic(xr.Dataset({"a": ("x", [1.0])}), "out/a.zarr")  # doctest: +SKIP
+    PosixPath('out/a.zarr')
+    """
+    import shutil
+
+    _require_zarr()
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent))
+    old = None
+    try:
+        delayed = ds.to_zarr(tmp, mode="w", compute=False, consolidated=True,
+                             zarr_format=ZARR_FORMAT)
+        if compute is None:
+            delayed.compute()
+        else:
+            compute(delayed)
+        for root, _, names in os.walk(tmp):
+            for name in names:
+                _flush(Path(root) / name)
+        os.chmod(tmp, 0o777 & ~_umask())
+        if path.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".old",
+                                        dir=path.parent))
+            os.replace(path, old / path.name)
+        os.replace(tmp, path)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        if old is not None and not path.exists() and (old / path.name).exists():
+            os.replace(old / path.name, path)  # put the earlier store back
+        raise
+    finally:
+        if old is not None:
+            shutil.rmtree(old, ignore_errors=True)
+    _flush_dir(path.parent)
+    return path
+
+
 def _flush(path: Path) -> None:
     with open(path, "rb") as fh:
         os.fsync(fh.fileno())
@@ -416,8 +476,20 @@ def manifest_path(output: str | os.PathLike) -> Path:
 
 
 def _stat(path: Path) -> dict:
+    if path.is_dir():  # a Zarr store: every file in it counts
+        return _tree_stat(path)
     st = path.stat()
     return {"path": str(path.resolve()), "size": st.st_size, "mtime_ns": st.st_mtime_ns}
+
+
+def _tree_stat(path: Path) -> dict:
+    size, mtime = 0, path.stat().st_mtime_ns
+    for root, _, names in os.walk(path):
+        for name in names:
+            st = os.stat(os.path.join(root, name))
+            size += st.st_size
+            mtime = max(mtime, st.st_mtime_ns)
+    return {"path": str(path.resolve()), "size": size, "mtime_ns": mtime}
 
 
 def _normal(settings: Mapping) -> object:

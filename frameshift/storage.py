@@ -222,6 +222,9 @@ def plan_output(
                 origin = [source.variables[n] for n in
                           ([name] if old is not None else _sources(var, source, consumed))]
                 new.encoding = _computed_encoding(var, origin, precision, target)
+                if "dtype" in new.encoding and not is_coord:
+                    new.attrs = {**new.attrs, "storage_precision": _precision_note(
+                        new.encoding["dtype"], precision)}
             if is_coord:
                 new.encoding["_FillValue"] = None
         variables[name] = new
@@ -274,6 +277,11 @@ def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: s
         else:
             enc["chunks"] = tuple(block)
     return enc
+
+
+def _precision_note(dtype: np.dtype, precision: str) -> str:
+    why = "as asked" if precision == "float64" else "the input's precision"
+    return f"{np.dtype(dtype).name} ({why}); computed in float64"
 
 
 def _fills(encoding: Mapping, dtype: np.dtype) -> dict:

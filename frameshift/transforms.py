@@ -386,6 +386,8 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
             + (["UT1 - UTC (dut1) taken as 0 s"] if _is_zero(dut1) else [])
         ),
     }
+    if not isinstance(dut1, xr.DataArray) and np.ndim(dut1) == 0:
+        common[DUT1_ATTR] = float(dut1)  # the way back needs the same value
     pos_attrs = {
         "long_name": f"position relative to the centre of {frame.name} on inertial {axes} axes",
         "units": "m",
@@ -421,6 +423,10 @@ def _to_cartesian(ds, frame, layout: Layout, height, celestial, dut1) -> xr.Data
         f"to_inertial(basis='cartesian', celestial={celestial!r}, frame={frame.name!r}) "
         f"on {list(vset.names())}",
     )
+
+
+#: Attribute of Cartesian outputs recording the UT1 - UTC (s) they were made with.
+DUT1_ATTR = "ut1_minus_utc_seconds"
 
 
 def _is_zero(dut1) -> bool:
