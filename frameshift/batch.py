@@ -502,8 +502,6 @@ def process(
         io.write_manifest(job.output, job.inputs, settings, command=options.command)
     except FrameshiftError as exc:
         reason = _one_line(exc)
-        if exc.variable == "velocity" and "velocity=" in reason:
-            reason += " (on the command line: --velocity eastward=NAME,northward=NAME)"
         return Outcome(job, "failed", reason, exc.variable, exc.expected, exc.found,
                        time.perf_counter() - start)
     except Exception as exc:  # one file's failure must not stop the others

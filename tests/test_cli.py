@@ -181,7 +181,7 @@ def test_failures_give_one_line_each_and_a_nonzero_exit(tmp_path, capsys):
     err = capsys.readouterr().err.splitlines()
     failed = [line for line in err if line.startswith("FAILED")]
     assert len(failed) == 1
-    assert "packed_knots.nc" in failed[0] and "variable 'velocity'" in failed[0]
+    assert "packed_knots.nc" in failed[0] and "(option --velocity)" in failed[0]
     assert "--velocity eastward=NAME,northward=NAME" in failed[0]
     assert (tmp_path / "tiny_example.nc").exists()
 
