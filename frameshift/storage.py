@@ -196,11 +196,8 @@ def plan_output(
         is_coord = name in coords
         if old is not None and _same_data(var, old) and _same_attrs(var.attrs, old.attrs):
             how[name] = "copied"
-            if raw is not None and name in raw.variables and (
-                    raw.variables[name].dtype.kind != "S" or not is_coord):
-                # as stored; char coordinates come decoded, so that the variables they
-                # label keep them in 'coordinates' (xarray re-encodes them exactly)
-                new = _as_stored(raw.variables[name], target)
+            if raw is not None and name in raw.variables:
+                new = _as_stored(raw.variables[name], target)  # as stored
             else:
                 new = var.copy(deep=False)
                 new.encoding = _storage(var.encoding, target)
