@@ -26,7 +26,7 @@ from frameshift.detect import (
 from frameshift.errors import ConventionError, FrameError, MissingInputError, check_choice
 from frameshift.frames import EARTH, Planet, check_frame
 from frameshift.timescales import julian_date_parts
-from frameshift.units import parse_units, scale_to, udunits_string, ureg
+from frameshift.units import parse_units, read_unit, scale_to, udunits_string, ureg
 
 __all__ = ["to_inertial", "to_rotating"]
 
@@ -477,7 +477,7 @@ def _from_cartesian(ds: xr.Dataset, frame: Planet, celestial: str, dut1) -> xr.D
     for comp in criteria.COMPONENTS:
         info = record.get(comp, {})
         units = info.get("units", "m s-1")
-        scales.append(scale_to(ureg.Unit(units), "m s-1"))
+        scales.append(scale_to(read_unit(units), "m s-1"))
         names.append(info.get("name", f"{comp}_velocity"))
         unit_strings.append(units)
     to_m = scale_to(pos_unit, "m")

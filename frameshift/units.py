@@ -14,7 +14,7 @@ from cf_xarray.units import units as ureg
 
 from frameshift.errors import UnitsError
 
-__all__ = ["parse_units", "scale_to", "udunits_string", "ureg"]
+__all__ = ["parse_units", "read_unit", "scale_to", "udunits_string", "ureg"]
 
 _DIMENSIONS = {
     "speed": "[length] / [time]",
@@ -27,6 +27,7 @@ _DIMENSIONS = {
 # and the UDUNITS-2 names to write instead (udunits2-common.xml).
 _NOT_UDUNITS = {"kn": "knot", "deg": "degree", "nmi": "nautical_mile"}
 _TOKEN = re.compile(r"[A-Za-z_]+")
+_SCALED = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s+\S")
 _PREFIXES = ("", "k", "h", "da", "d", "c", "m", "u", "µ", "n", "M", "G")
 # Symbols cf-xarray writes that mean the same in UDUNITS-2 (udunits2-accepted.xml,
 # udunits2-common.xml; each checked against cf-units in tests/test_units_written.py).
@@ -75,7 +76,7 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
             found="no units",
         )
     try:
-        unit = ureg.Unit(str(units))
+        unit = read_unit(str(units))
     except (pint.errors.PintError, ValueError, TypeError, AttributeError) as exc:
         raise UnitsError(
             f"variable {variable!r} has units {units!r}, which are not a recognised unit; "
@@ -93,6 +94,27 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
             found=f"{units} ({unit.dimensionality})",
         )
     return unit
+
+
+def read_unit(text: str) -> pint.Unit:
+    """A unit from its text, including a scaled unit such as ``0.5 m s-1`` (UDUNITS-2
+    allows a leading factor; frameshift writes one for units UDUNITS-2 cannot name).
+
+    Examples
+    --------
+    >>> round(scale_to(read_unit("0.5 m s-1"), "m s-1"), 12)
+    0.5
+    """
+    try:
+        return ureg.Unit(text)
+    except ValueError:
+        if not _SCALED.match(text):
+            raise
+    quantity = ureg.Quantity(text)
+    name = "scaled_" + re.sub(r"\W", "_", f"{float(quantity.magnitude)!r}_{quantity.units}")
+    if name not in ureg:
+        ureg.define(f"{name} = {float(quantity.magnitude)!r} * {quantity.units}")
+    return ureg.Unit(name)
 
 
 def scale_to(unit: pint.Unit, target: str) -> float:
