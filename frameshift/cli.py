@@ -51,6 +51,7 @@ _WORDING = [
     (re.compile(r"\bcelestial=(?=\W)"), "--celestial "),
     (re.compile(r"\b(velocity|height|terms|totals)= and (velocity|height|terms|totals)="),
      r"--\1 and --\2"),
+    (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=['\"])"), r"--\1 "),
     (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=\W|$)"), r"--\1"),
     (re.compile(r"\bpass --height"), "give --height"),
 ]
@@ -355,6 +356,9 @@ def check_usage(parser: argparse.ArgumentParser, args: argparse.Namespace) -> No
         if args.workers is not None and args.scheduler is not None:
             useless.append("--workers starts a local cluster and --scheduler uses a running "
                            "one: give one of them")
+    if getattr(args, "dut1", None) is not None and not abs(args.dut1) <= 1.0:
+        useless.append(f"--dut1 {args.dut1:g}: UT1 - UTC is kept within 0.9 s; give seconds "
+                       "in [-1, 1]")
     if args.command == "convert":
         local = args.basis == "local" or (args.basis is None and args.to == "inertial")
         for option, value in (("--celestial", args.celestial), ("--dut1", args.dut1)):
@@ -519,7 +523,7 @@ def describe(
              "sign": layout.vertical_sign}
             if layout.vertical else None
         )
-        report["notes"] = list(layout.notes)
+        report["notes"] = [cli_wording(n) for n in layout.notes]
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity, height, celestial, dut1)
     return report

@@ -318,10 +318,10 @@ def _dut1_values(dut1, t: xr.DataArray) -> np.ndarray:
     if not np.all(np.abs(values) <= 1.0):
         raise ConventionError(
             "dut1 (UT1 - UTC) must be in seconds and within ±1 s (UTC is kept within 0.9 s "
-            f"of UT1); found values up to {np.nanmax(np.abs(values))!r}",
+            f"of UT1); found values up to {float(np.nanmax(np.abs(values))):g} s",
             variable="dut1",
             expected="|dut1| <= 1 s",
-            found=str(np.nanmax(np.abs(values))),
+            found=f"{float(np.nanmax(np.abs(values))):g} s",
         )
     return np.array(values, dtype=np.float64)
 
