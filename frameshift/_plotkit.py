@@ -23,7 +23,8 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
 
-__all__ = ["LINE_COLOURS", "MAGNITUDE_CMAP", "SIGNED_CMAP", "STYLE", "unit_label"]
+__all__ = ["LINE_COLOURS", "MAGNITUDE_CMAP", "SIGNED_CMAP", "STYLE", "elapsed_time",
+           "unit_label"]
 
 STYLE: dict[str, object] = {
     "font.size": 9.5,
@@ -59,17 +60,20 @@ LINE_COLOURS: dict[str, str] = {
     "euler": "#009E73",
     "curvature": "#CC79A7",
     "total": "#222222",
+    "total_without_centrifugal": "#555555",
     "earth": "#D55E00",
     "inertial": "#0072B2",
 }
 
-_TERM_ORDER = ("coriolis", "centrifugal", "euler", "curvature", "total")
+_TERM_ORDER = ("coriolis", "centrifugal", "euler", "curvature", "total_without_centrifugal",
+               "total")
 _TERM_LABELS = {
     "coriolis": "Coriolis",
     "centrifugal": "centrifugal",
     "euler": "Euler",
     "curvature": "curvature",
     "total": "total",
+    "total_without_centrifugal": "total without centrifugal",
 }
 _TERM_RE = re.compile(r"^(?P<term>\w+?)_(?P<comp>eastward|northward|upward)$")
 _SUPER = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
@@ -207,10 +211,14 @@ def _edges(centres: np.ndarray, lo: float | None = None, hi: float | None = None
     return np.clip(edges, lo, hi) if lo is not None else edges
 
 
-def _colour_scale(values: np.ndarray) -> tuple[str, float, float]:
-    """Diverging and symmetric about zero for signed values, else sequential."""
+def _colour_scale(values: np.ndarray, signed: bool = False) -> tuple[str, float, float]:
+    """Diverging and symmetric about zero for signed quantities (``signed``, or values of
+    both signs), else sequential."""
     finite = values[np.isfinite(values)]
     lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
+    if signed or lo < 0.0 < hi:
+        top = max(-lo, hi, abs(lo), abs(hi)) or 1.0
+        return SIGNED_CMAP, -top, top
     if lo < 0.0 < hi:
         top = max(-lo, hi)
         return SIGNED_CMAP, -top, top
@@ -254,12 +262,38 @@ def _zero_note(zero: list[str]) -> str:
     return f" Not drawn, zero everywhere: {', '.join(_TERM_LABELS.get(t, t) for t in zero)}."
 
 
-def _format_time_axis(ax: Axes) -> None:
-    from matplotlib.dates import AutoDateLocator, ConciseDateFormatter
+def elapsed_time(times: xr.DataArray) -> tuple[np.ndarray, str]:
+    """Time as hours (or days, past ten days) since its first value, and the axis label.
 
-    locator = AutoDateLocator(minticks=4, maxticks=8)
-    ax.xaxis.set_major_locator(locator)
-    ax.xaxis.set_major_formatter(ConciseDateFormatter(locator))
+    Works for every CF calendar (datetime64 and cftime values alike), and starts
+    the axis where the data start.
+
+    Examples
+    --------
+    >>> import numpy as np, xarray as xr
+    >>> t = xr.DataArray(np.array(["2030-01-01T00", "2030-01-01T06"], "datetime64[ns]"))
+    >>> elapsed_time(t)
+    (array([0., 6.]), 'hours since 2030-01-01 00:00 (standard calendar)')
+    """
+    values = np.asarray(times.values).ravel()
+    first = values[0]
+    if np.issubdtype(values.dtype, np.datetime64):
+        seconds = (values - first) / np.timedelta64(1, "s")
+        start = np.datetime_as_string(first, unit="m").replace("T", " ")
+        calendar = times.encoding.get("calendar", "standard")
+    else:  # cftime values: differences are datetime.timedelta in their own calendar
+        seconds = np.array([(t - first).total_seconds() for t in values])
+        start = first.strftime("%Y-%m-%d %H:%M")
+        calendar = getattr(first, "calendar", None) or times.encoding.get("calendar", "")
+    seconds = np.asarray(seconds, dtype=np.float64)
+    span = float(np.nanmax(seconds)) if seconds.size else 0.0
+    per, unit = (86400.0, "days") if span > 10 * 86400.0 else (3600.0, "hours")
+    return seconds / per, f"{unit} since {start} ({calendar or 'standard'} calendar)"
+
+
+def _format_time_axis(ax: Axes, t: np.ndarray | None = None) -> None:
+    if t is not None and len(t):
+        ax.set_xlim(float(np.nanmin(t)), float(np.nanmax(t)))  # from where the data start
 
 
 def _style():
@@ -287,7 +321,7 @@ def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, component
             if _is_zero(da):
                 _zero_panel(ax, f"{_TERM_LABELS.get(term, term)}, {comp}")
                 continue
-            t = da[da.dims[0]].values
+            t, t_label = elapsed_time(da[da.dims[0]])
             exp = _exponent(np.asarray(da.values, dtype=np.float64))
             vals = _values(da, exp)
             ax.plot(t, vals, color=LINE_COLOURS.get(term, "#444444"))
@@ -309,9 +343,9 @@ def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, component
                 ax.axhline(0.0, color="#777777", lw=0.7, zorder=1)
             ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}")
             ax.set_ylabel(unit_label(ds[name].attrs.get("units", "m s-2"), exp))
-            _format_time_axis(ax)
+            _format_time_axis(ax, t)
             if i == len(draw) - 1:
-                ax.set_xlabel("time (UTC)")
+                ax.set_xlabel(t_label)
     return axes
 
 
@@ -323,9 +357,8 @@ def _section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None
     _, lo, hi = _colour_scale(vals)
     top = max(abs(lo), abs(hi))
     z = da[vdim].values
-    mesh = ax.pcolormesh(
-        da[tname].values, z, vals, cmap=SIGNED_CMAP, vmin=-top, vmax=top, shading="nearest"
-    )
+    t, t_label = elapsed_time(da[tname])
+    mesh = ax.pcolormesh(t, z, vals, cmap=SIGNED_CMAP, vmin=-top, vmax=top, shading="nearest")
     cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12)
     cbar.set_label(unit_label(da.attrs.get("units", "m s-2"), exp))
     vunits = da[vdim].attrs.get("units", "")
@@ -336,7 +369,8 @@ def _section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None
     term, _, comp = str(da.name).rpartition("_")
     ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}, against {vdim} and time")
     ax.grid(False)
-    _format_time_axis(ax)
+    ax.set_xlabel(t_label)
+    _format_time_axis(ax, t)
 
 
 def _inertial_period_hours(ds: xr.Dataset, frame: Planet) -> float | None:
@@ -351,10 +385,11 @@ def _inertial_period_hours(ds: xr.Dataset, frame: Planet) -> float | None:
 
 
 def _period_bar(ax: Axes, hours: float) -> None:
-    """A bar one inertial period long in the upper left of a time axis."""
-    t0, t1 = ax.get_xlim()  # matplotlib date numbers, in days
+    """A bar one inertial period long in the upper left of an elapsed-time axis."""
+    t0, t1 = ax.get_xlim()  # hours or days since the start (see elapsed_time)
+    per_hour = 1.0 / 24.0 if "days" in ax.get_xlabel() else 1.0
     start = t0 + 0.02 * (t1 - t0)
-    end = start + hours / 24.0
+    end = start + hours * per_hour
     trans = ax.get_xaxis_transform()
     ax.plot(
         [start, end],
@@ -393,16 +428,19 @@ def _height_name(ds: xr.Dataset) -> str:
     )
 
 
-def _time_ticks(ax: Axes, lon: np.ndarray, lat: np.ndarray, times: np.ndarray) -> None:
-    t = times.astype("datetime64[s]").astype(np.int64)
+def _time_ticks(ax: Axes, lon: np.ndarray, lat: np.ndarray, times: xr.DataArray) -> None:
+    hours, label_text = elapsed_time(times)
+    if "days" in label_text:
+        hours = hours * 24.0
+    t = np.floor(hours * 3600.0).astype(np.int64)
     every = 6 * 3600
     marks = np.flatnonzero(np.diff(t // every, prepend=t[0] // every - 1) != 0)
     for n, i in enumerate(marks):
         ax.plot(lon[i], lat[i], "|", color="#222222", ms=8, mew=1.2, zorder=3)
         if n % 4 == 0:
-            label = np.datetime_as_string(times[i], unit="h").replace("T", " ") + "Z"
+            label = f"+{hours[i]:.0f} h"
             ax.annotate(
-                label[5:],
+                label,
                 (lon[i], lat[i]),
                 xytext=(0, 7),
                 textcoords="offset points",

@@ -193,7 +193,12 @@ def _operation(step: str, name: str) -> batch.Operation:
         return batch.convert_operation("inertial", velocity=velocity)
     if step == "inertial_cartesian":
         return batch.convert_operation("inertial", basis="cartesian", velocity=velocity)
-    return batch.terms_operation(velocity=velocity)
+    return batch.terms_operation(velocity=velocity, totals=("full", "without_centrifugal"))
+
+
+#: The terms the demo's figures draw: those that carry dynamics. The centrifugal term
+#: (a steady, latitude-only pull counted in effective gravity) would fill the total.
+DYNAMIC_TERMS = ("coriolis", "curvature", "total_without_centrifugal")
 
 
 def run(
@@ -299,14 +304,14 @@ def _term_maps(out: Path, data: Path, path: Path) -> None:
     from frameshift.plotting import plot_term_maps
 
     with xr.open_dataset(out / "terms" / "global_winds.nc") as terms:
-        plot_term_maps(terms, "250 hPa", path=path)
+        plot_term_maps(terms, "250 hPa", terms=DYNAMIC_TERMS, path=path)
 
 
 def _mooring_series(out: Path, data: Path, path: Path) -> None:
     from frameshift.plotting import plot_terms_timeseries
 
     with xr.open_dataset(out / "terms" / "shelf_mooring.nc") as terms:
-        plot_terms_timeseries(terms, "10 m", path=path)
+        plot_terms_timeseries(terms, "10 m", terms=DYNAMIC_TERMS, path=path)
 
 
 def _zonal_mean(out: Path, data: Path, path: Path) -> None:
@@ -322,7 +327,7 @@ def _track_terms(out: Path, data: Path, path: Path) -> None:
 
     # the terms output keeps the track's latitude, longitude and time as coordinates
     with xr.open_dataset(out / "terms" / "balloon_track.nc") as terms:
-        plot_track_terms(terms, terms, path=path)
+        plot_track_terms(terms, terms, terms=DYNAMIC_TERMS, path=path)
 
 
 #: (file name, data set, title, sources relative to out (or "data:" for the input), drawer)

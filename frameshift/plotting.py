@@ -6,10 +6,14 @@ figures are built on :class:`matplotlib.figure.Figure` directly (no pyplot
 state), so they work headless. Every function returns the Figure and, given
 ``path``, also writes a PNG.
 
-Colour choices: signed quantities use the diverging map ``RdBu_r`` centred on
-zero (red eastward/northward/upward, blue the opposite way); quantities of one
-sign use the perceptually uniform ``cividis``; lines use a palette that stays
-distinguishable under the common colour-vision deficiencies.
+Colour choices: every signed quantity (every acceleration term, even one that
+keeps its sign) uses the one diverging map ``RdBu_r`` centred on zero (red
+eastward/northward/upward, blue the opposite way); magnitudes use the
+perceptually uniform ``cividis``; lines use a palette that stays
+distinguishable under the common colour-vision deficiencies. Time axes are
+elapsed time from the first value (every CF calendar, cftime values
+included), labelled with the start and the calendar; each panel's scale is
+its own, with the power of ten in its label, so small terms are readable.
 """
 
 from __future__ import annotations
@@ -90,9 +94,8 @@ def plot_term_maps(
     """Latitude-longitude maps of each acceleration term at one level and time.
 
     One row per term, one column per component, each panel with its own colour
-    scale: diverging and centred on zero where the term changes sign, sequential
-    where it does not. Terms that are zero everywhere are left out and named in
-    the caption.
+    scale (the power of ten in its label), diverging and centred on zero. Terms
+    that are zero everywhere are left out and named in the caption.
 
     Parameters
     ----------
@@ -158,8 +161,8 @@ def plot_term_maps(
     lon_e, lat_e = _edges(lon), _edges(lat, -90.0, 90.0)
     caption = (
         f"Apparent accelerations of the rotating frame {', '.join(where)}, one panel per "
-        "term (rows) and component (columns), each on its own colour scale: red-blue "
-        "diverging maps are centred on zero; cividis marks terms of one sign." + _zero_note(zero)
+        "term (rows) and component (columns), each on its own colour scale (power of ten "
+        "in the label), red-blue diverging and centred on zero." + _zero_note(zero)
     )
     ncol = len(components)
     width = 4.1 * ncol + 0.4
@@ -191,7 +194,7 @@ def plot_term_maps(
                     continue
                 exp = _exponent(np.asarray(da.values, dtype=np.float64))
                 vals = _values(da, exp)
-                cmap, lo, hi = _colour_scale(vals)
+                cmap, lo, hi = _colour_scale(vals, signed=True)  # terms are signed
                 mesh = ax.pcolormesh(lon_e, lat_e, vals, cmap=cmap, vmin=lo, vmax=hi)
                 units = unit_label(terms_ds[name].attrs.get("units", "m s-2"), exp)
                 cbar = fig.colorbar(mesh, ax=ax, shrink=0.9, pad=0.02, aspect=18)
@@ -502,7 +505,7 @@ def plot_track_terms(
     lat = np.asarray(track_ds[_coord_by_kind(track_ds, "latitude")].values, dtype=np.float64)
     lon = np.asarray(track_ds[_coord_by_kind(track_ds, "longitude")].values, dtype=np.float64)
     tname = find_time(track_ds)
-    times = track_ds[tname].values if tname else None
+    times = track_ds[tname] if tname else None
     east = terms_ds.get(f"{colour_by}_eastward")
     north = terms_ds.get(f"{colour_by}_northward")
     if east is None or north is None:
@@ -518,7 +521,8 @@ def plot_track_terms(
     caption = (
         f"Top: the track, coloured by the horizontal magnitude of the "
         f"{_TERM_LABELS.get(colour_by, colour_by)} acceleration (cividis); ticks every 6 h, "
-        "circle at the start. Below: each term (rows) and component (columns) against time, "
+        "labelled in hours since the start (circle); equal distances in x and y. "
+        "Below: each term (rows) and component (columns) against time, "
         "each with its own y scale (power of ten in the label)." + _zero_note(zero)
     )
     width = 4.2 * len(components) + 0.6
