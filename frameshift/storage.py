@@ -237,8 +237,17 @@ def _as_stored(raw: xr.Variable, target: str) -> xr.Variable:
     if raw.dtype == np.dtype("S1") and raw.ndim:
         # a char array: its last dimension joins the characters back (as xarray
         # decodes them) and is named again on writing, with the same length
-        data = np.ascontiguousarray(np.asarray(raw.values))
-        joined = data.view(f"S{data.shape[-1]}").reshape(data.shape[:-1])
+        width = raw.shape[-1]
+
+        def join(block: np.ndarray) -> np.ndarray:
+            return np.ascontiguousarray(block).view(f"S{width}").reshape(block.shape[:-1])
+
+        data = raw.data
+        if hasattr(data, "dask"):  # stays lazy: whole strings per block
+            joined = data.rechunk({data.ndim - 1: -1}).map_blocks(
+                join, drop_axis=data.ndim - 1, dtype=f"S{width}")
+        else:
+            joined = join(np.asarray(data))
         new = xr.Variable(raw.dims[:-1], joined, dict(raw.attrs))
         new.encoding = {**_storage(raw.encoding, target), "char_dim_name": raw.dims[-1]}
     if "coordinates" not in raw.attrs:
