@@ -271,7 +271,9 @@ def _convert(file: Path, step: str, out_dir: Path, options: batch.RunOptions,
         return DemoRow(file.name, step, outcome.status, job.output, seconds=outcome.seconds)
     expected = _REFUSED_BY_DESIGN.get((file.name, step))
     status = "refused" if expected == (outcome.variable, outcome.found) else "failed"
-    return DemoRow(file.name, step, status, None, outcome.reason, outcome.seconds)
+    from frameshift.report import cli_wording
+
+    return DemoRow(file.name, step, status, None, cli_wording(outcome.reason), outcome.seconds)
 
 
 def _counts(rows: list[DemoRow]) -> str:
