@@ -5,7 +5,10 @@ frame the physics needs, and attribute the apparent accelerations a rotating
 frame adds, on xarray data with units and CF metadata kept.
 """
 
-from frameshift.accelerations import apparent_accelerations, coriolis_parameters
+from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
+from frameshift._version import __version__
+from frameshift.dynamics.accelerations import apparent_accelerations, coriolis_parameters
+from frameshift.dynamics.gravity import normal_gravity
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -16,24 +19,35 @@ from frameshift.errors import (
     UnitsError,
     UnsupportedInputError,
 )
-from frameshift.frames import EARTH, EARTH_SPHERE, Planet
-from frameshift.gravity import normal_gravity
+from frameshift.frames import (
+    EARTH,
+    EARTH_SPHERE,
+    EarthRotationAngle,
+    Ellipsoid,
+    Frame,
+    Plane,
+    Planet,
+    RateSeries,
+    SteadyRate,
+)
 from frameshift.transforms import to_inertial, to_rotating
-
-__version__ = "0.1.0"
-
-from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
 
 __all__ = [
     "EARTH",
     "EARTH_SPHERE",
     "ConventionError",
+    "EarthRotationAngle",
+    "Ellipsoid",
+    "Frame",
     "FrameError",
     "FrameshiftError",
     "FrameshiftWarning",
     "InputTypeError",
     "MissingInputError",
+    "Plane",
     "Planet",
+    "RateSeries",
+    "SteadyRate",
     "UnitsError",
     "UnsupportedInputError",
     "__version__",

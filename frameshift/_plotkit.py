@@ -14,10 +14,10 @@ from typing import TYPE_CHECKING
 import numpy as np
 import xarray as xr
 
-from frameshift import criteria
+from frameshift.detect import criteria
 from frameshift.errors import MissingInputError
-from frameshift.frames import Planet
-from frameshift.units import ureg
+from frameshift.frames import Frame
+from frameshift.units import parse_quantity
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
@@ -195,7 +195,7 @@ def _select(da: xr.DataArray, dim: str, value: object) -> xr.DataArray:
     if value is None:
         return da.isel({dim: 0})
     if isinstance(value, str) and dim in da.coords and "units" in da[dim].attrs:
-        target = ureg.Quantity(value).to(ureg.Unit(da[dim].attrs["units"])).magnitude
+        target = parse_quantity(str(dim), value, da[dim].attrs["units"])
         return da.sel({dim: target}, method="nearest")
     return da.sel({dim: value}, method="nearest")
 
@@ -373,7 +373,7 @@ def _section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None
     _format_time_axis(ax, t)
 
 
-def _inertial_period_hours(ds: xr.Dataset, frame: Planet) -> float | None:
+def _inertial_period_hours(ds: xr.Dataset, frame: Frame) -> float | None:
     try:
         lat = ds[_coord_by_kind(ds, "latitude")]
     except MissingInputError:

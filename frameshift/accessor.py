@@ -36,18 +36,18 @@ class FrameshiftAccessor:
 
     def apparent_accelerations(self, *args, **kwargs) -> xr.Dataset:
         """See :func:`frameshift.apparent_accelerations`."""
-        from frameshift.accelerations import apparent_accelerations
+        from frameshift.dynamics.accelerations import apparent_accelerations
 
         return apparent_accelerations(self._ds, *args, **kwargs)
 
     def coriolis_parameters(self, *args, **kwargs) -> xr.Dataset:
         """See :func:`frameshift.coriolis_parameters`."""
-        from frameshift.accelerations import coriolis_parameters
+        from frameshift.dynamics.accelerations import coriolis_parameters
 
         return coriolis_parameters(self._ds, *args, **kwargs)
 
     def normal_gravity(self, *args, **kwargs) -> xr.Dataset:
         """See :func:`frameshift.normal_gravity`."""
-        from frameshift.gravity import normal_gravity
+        from frameshift.dynamics.gravity import normal_gravity
 
         return normal_gravity(self._ds, *args, **kwargs)

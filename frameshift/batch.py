@@ -29,6 +29,7 @@ from frameshift.cf import set_conventions
 from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
 
 __all__ = [
+    "OPERATIONS",
     "Job",
     "Operation",
     "Outcome",
@@ -41,6 +42,7 @@ __all__ = [
     "output_format",
     "plan_jobs",
     "process",
+    "register_operation",
     "run",
     "terms_operation",
     "with_format_suffix",
@@ -53,11 +55,29 @@ _WORKER_FLOOR = 512 * 2**20
 
 
 # --- what to do -----------------------------------------------------------------------
+#: The operations the runner knows: command name -> function(ds, **settings) -> Dataset.
+#: Capabilities add theirs with :func:`register_operation` (the command line, the
+#: runner and the demo then share it, with no chain of ifs).
+OPERATIONS: dict[str, Callable[..., xr.Dataset]] = {}
+
+
+def register_operation(command: str, function: Callable[..., xr.Dataset]) -> None:
+    """Make ``function(ds, **settings)`` the operation run for ``command``.
+
+    Examples
+    --------
+    >>> "convert" in OPERATIONS and "terms" in OPERATIONS  # registered below
+    True
+    """
+    OPERATIONS[command] = function
+
+
 @dataclass(frozen=True)
 class Operation:
     """One frameshift operation with its settings, applied file by file.
 
-    Make one with :func:`convert_operation` or :func:`terms_operation`.
+    Make one with :func:`convert_operation`, :func:`terms_operation`, or for a
+    registered command ``Operation(command, settings)``.
     """
 
     command: str
@@ -65,43 +85,56 @@ class Operation:
 
     def apply(self, ds: xr.Dataset) -> xr.Dataset:
         """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed)."""
-        s = dict(self.settings)
-        if self.command == "convert":
-            from frameshift.transforms import to_inertial, to_rotating
+        try:
+            function = OPERATIONS[self.command]
+        except KeyError as exc:
+            raise ConventionError(
+                f"unknown operation {self.command!r}; known: {sorted(OPERATIONS)}",
+                variable="command",
+                expected=" | ".join(sorted(OPERATIONS)),
+                found=repr(self.command),
+            ) from exc
+        return function(ds, **self.settings)
 
-            to = s.pop("to")
-            if s["basis"] == "auto":  # what the file says it holds
-                s["basis"] = "cartesian" if is_cartesian(ds) else "local"
-            if s["celestial"] is None:
-                s["celestial"] = _axes_of(ds) if to == "rotating" else "cirs"
-            if s["dut1"] is None:  # the value the Cartesian file was made with, else 0
-                s["dut1"] = _dut1_of(ds) if to == "rotating" else 0.0
-            if s["basis"] == "local":
-                s.pop("celestial")
-                s.pop("dut1")
-            func = to_inertial if to == "inertial" else to_rotating
-            return func(ds, **s)
-        keep_input = s.pop("keep_input", False)
-        apparent_accelerations = _accelerations()
-        result = apparent_accelerations(ds, **s)
-        attrs = {**ds.attrs, **result.attrs}
-        set_conventions(attrs)
-        if keep_input:  # the input's variables as they were, the terms beside them
-            clash = sorted(set(result.data_vars) & set(ds.variables))
-            if clash:
-                raise ConventionError(
-                    f"the input already has variables named like the terms ({clash}); "
-                    "they cannot be kept beside them",
-                    variable=clash[0],
-                    expected="no input variable named like a term",
-                    found=", ".join(clash),
-                )
-            return ds.assign(dict(result.data_vars)).assign_attrs(attrs)
-        return result.assign_attrs(attrs)
+
+def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
+    from frameshift.transforms import to_inertial, to_rotating
+
+    s = dict(settings)
+    if s.get("basis") == "auto":  # what the file says it holds
+        s["basis"] = "cartesian" if is_cartesian(ds) else "local"
+    if s.get("celestial", "cirs") is None:  # the axes a Cartesian file records
+        s["celestial"] = _recorded(ds, "inertial_axes", "cirs").lower() if to == "rotating" \
+            else "cirs"
+    if s.get("dut1", 0.0) is None:  # the UT1 - UTC a Cartesian file was made with
+        s["dut1"] = float(_recorded(ds, "ut1_minus_utc_seconds", 0.0)) if to == "rotating" \
+            else 0.0
+    if s.get("basis") == "local":
+        s.pop("celestial", None)
+        s.pop("dut1", None)
+    return (to_inertial if to == "inertial" else to_rotating)(ds, **s)
+
+
+def _terms(ds: xr.Dataset, *, keep_input: bool = False, **settings) -> xr.Dataset:
+    result = _accelerations()(ds, **settings)
+    attrs = {**ds.attrs, **result.attrs}
+    set_conventions(attrs)
+    if keep_input:  # the input's variables as they were, the terms beside them
+        clash = sorted(set(result.data_vars) & set(ds.variables))
+        if clash:
+            raise ConventionError(
+                f"the input already has variables named like the terms ({clash}); "
+                "they cannot be kept beside them",
+                variable=clash[0],
+                expected="no input variable named like a term",
+                found=", ".join(clash),
+            )
+        return ds.assign(dict(result.data_vars)).assign_attrs(attrs)
+    return result.assign_attrs(attrs)
 
 
 def is_cartesian(ds: xr.Dataset) -> bool:
-    """Whether ``ds`` holds ``position`` and ``velocity`` on a ``component`` axis (as
+    """Whether ``ds`` holds inertial positions and velocities on a ``component`` axis (as
     ``--basis cartesian`` writes them).
 
     Examples
@@ -110,26 +143,27 @@ def is_cartesian(ds: xr.Dataset) -> bool:
     >>> is_cartesian(xr.Dataset())
     False
     """
-    return all(n in ds.data_vars and "component" in ds[n].dims for n in ("position", "velocity"))
+    from frameshift.transforms.cartesian import cartesian_pairs
+
+    return bool(cartesian_pairs(ds))
 
 
-def _dut1_of(ds: xr.Dataset) -> float:
-    """The UT1 - UTC (s) a Cartesian file records it was made with, else 0."""
-    if "velocity" in ds.data_vars:
-        try:
-            return float(ds["velocity"].attrs.get("ut1_minus_utc_seconds", 0.0))
-        except (TypeError, ValueError):
-            return 0.0
-    return 0.0
+def _recorded(ds: xr.Dataset, key: str, default: object) -> object:
+    """What the (first) Cartesian velocity of ``ds`` records under ``key``."""
+    from frameshift.transforms.cartesian import cartesian_pairs
+
+    for _, name in cartesian_pairs(ds):
+        value = ds[name].attrs.get(key)
+        if value is not None:
+            try:
+                return type(default)(value) if not isinstance(default, str) else str(value)
+            except (TypeError, ValueError):
+                return default
+    return default
 
 
-def _axes_of(ds: xr.Dataset) -> str:
-    """The inertial axes a Cartesian file says it is on (``inertial_axes``), else CIRS."""
-    if "velocity" in ds.data_vars:
-        axes = str(ds["velocity"].attrs.get("inertial_axes", "cirs")).lower()
-        if axes in ("cirs", "gcrs"):
-            return axes
-    return "cirs"
+register_operation("convert", _convert)
+register_operation("terms", _terms)
 
 
 def convert_operation(
@@ -137,17 +171,17 @@ def convert_operation(
     *,
     basis: str = "local",
     celestial: str | None = "cirs",
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     dut1: float | None = 0.0,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
 
-    ``basis="auto"`` takes the basis from each file (Cartesian ``position`` and
-    ``velocity`` on a ``component`` axis, or local components);
-    ``celestial=None`` takes the inertial axes a Cartesian file records
-    (``inertial_axes``) when converting back, and ``dut1=None`` the UT1 - UTC it
-    records (``ut1_minus_utc_seconds``).
+    ``basis="auto"`` takes the basis from each file (Cartesian positions and
+    velocities on a ``component`` axis, or local components); ``celestial=None``
+    and ``dut1=None`` take the inertial axes (``inertial_axes``) and the UT1 - UTC
+    (``ut1_minus_utc_seconds``) a Cartesian file records when converting back.
 
     Examples
     --------
@@ -159,7 +193,8 @@ def convert_operation(
     if celestial is not None:
         check_choice("celestial", celestial, ("cirs", "gcrs"))
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
-                "height": height, "dut1": None if dut1 is None else float(dut1)}
+                "height": height, "dut1": None if dut1 is None else float(dut1),
+                **_coordinate_settings(coordinates)}
     return Operation("convert", settings)
 
 
@@ -167,11 +202,12 @@ def terms_operation(
     terms: Sequence[str] | None = None,
     *,
     traditional: bool = False,
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
     totals: Sequence[str] = ("full",),
     keep_input: bool = False,
+    **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
 
@@ -186,17 +222,38 @@ def terms_operation(
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
                 "include_parameters": bool(include_parameters), "totals": list(totals),
-                "keep_input": bool(keep_input)}
+                "keep_input": bool(keep_input), **_coordinate_settings(coordinates)}
     return Operation("terms", settings)
 
 
-def _mapping(velocity: Mapping[str, str] | None) -> dict[str, str] | None:
-    return dict(velocity) if velocity is not None else None
+def _mapping(velocity) -> dict[str, str] | list[dict[str, str]] | None:
+    """``velocity=`` as plain data: one mapping, or a list of them for several sets."""
+    if velocity is None:
+        return None
+    if isinstance(velocity, Mapping):
+        return dict(velocity)
+    sets = [dict(v) for v in velocity]
+    return sets[0] if len(sets) == 1 else sets
+
+
+_COORDINATE_KEYS = ("latitude", "longitude", "vertical", "time")
+
+
+def _coordinate_settings(coordinates: Mapping[str, str]) -> dict[str, str]:
+    unknown = set(coordinates) - set(_COORDINATE_KEYS)
+    if unknown:
+        raise ConventionError(
+            f"unknown coordinate option(s) {sorted(unknown)}; valid: {list(_COORDINATE_KEYS)}",
+            variable=sorted(unknown)[0],
+            expected=", ".join(_COORDINATE_KEYS),
+            found=", ".join(sorted(unknown)),
+        )
+    return {k: v for k, v in coordinates.items() if v is not None}
 
 
 def _accelerations() -> Callable[..., xr.Dataset]:
     try:
-        from frameshift.accelerations import apparent_accelerations
+        from frameshift.dynamics.accelerations import apparent_accelerations
     except ImportError as exc:
         raise MissingInputError(
             "apparent-acceleration terms are not available in this frameshift installation "
@@ -252,12 +309,14 @@ class Outcome:
     expected: str | None = None
     found: str | None = None
     seconds: float = 0.0
+    sets: int = 0
 
     def line(self) -> str:
         """One line for the summary."""
         source = ", ".join(map(str, self.job.inputs))
         if self.status == "written":
-            return f"wrote {self.job.output} from {source} ({self.seconds:.1f} s)"
+            what = f"{self.sets} velocity set{'s' * (self.sets != 1)}, " if self.sets else ""
+            return f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
         if self.status == "skipped":
             return f"skipped {self.job.output}: {self.reason}"
         where = f" (variable {self.variable!r})" if self.variable else ""
@@ -458,6 +517,31 @@ def _computer(client: object | None, bar_factory: Callable) -> Callable[[object]
     return compute
 
 
+def count_sets(result: xr.Dataset, target: str | None = None) -> int:
+    """How many velocity sets an operation converted (to ``target``) or decomposed.
+
+    Counted from what the result says of itself: one Cartesian velocity, one
+    eastward (or x) component in the target frame, or one ``velocity_variables``
+    group of terms per set.
+
+    Examples
+    --------
+    >>> count_sets(xr.Dataset())
+    0
+    """
+    sets = set()
+    for name, var in result.variables.items():
+        attrs = var.attrs
+        if "rotating_frame_variables" in attrs:  # one Cartesian velocity per set
+            sets.add(("cartesian", name))
+        elif (attrs.get("velocity_component") in ("eastward", "x")
+              and attrs.get("reference_frame") == target):
+            sets.add(("local", name))
+        elif "velocity_variables" in attrs:  # a term variable names the set it came from
+            sets.add(("terms", attrs["velocity_variables"]))
+    return len(sets)
+
+
 def _key_name(key: object) -> str:
     return str(key[0] if isinstance(key, tuple) else key)
 
@@ -489,6 +573,7 @@ def process(
                                 combine=options.combine)
         try:
             result = operation.apply(ds)
+            sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw, precision=options.precision,
                                             target=fmt)
@@ -507,7 +592,7 @@ def process(
     except Exception as exc:  # one file's failure must not stop the others
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
-    return Outcome(job, "written", seconds=time.perf_counter() - start)
+    return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
 
 
 def output_format(path: str | os.PathLike, asked: str | None = None) -> str:
@@ -541,7 +626,7 @@ def _one_line(exc: BaseException) -> str:
 
 def _provenance(result: xr.Dataset, old_history: str | None, command: str) -> xr.Dataset:
     """History gains exactly one line: date, frameshift version, command, what was done."""
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     new = str(result.attrs.get("history", ""))
     if old_history and new.startswith(str(old_history)):

@@ -179,13 +179,24 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--velocity", type=parse_velocity, default=None,
+    parser.add_argument("--velocity", type=parse_velocity, action="append", default=None,
                         metavar="eastward=U,northward=V[,upward=W]",
                         help="name the velocity components instead of finding them by "
-                        "standard_name")
+                        "standard_name; repeat the option for several sets (default: every "
+                        "set found by standard_name)")
     parser.add_argument("--height", default=None, metavar="METRES|VARIABLE",
                         help="height above the reference ellipsoid: a number in m or the "
                         "name of a variable (default: found from the vertical coordinate)")
+    _coordinate_options(parser)
+
+
+def _coordinate_options(parser: argparse.ArgumentParser) -> None:
+    for axis, what in (("latitude", "latitude"), ("longitude", "longitude"),
+                       ("vertical", "height or depth"), ("time", "time")):
+        parser.add_argument(f"--{axis}", default=None, metavar="VARIABLE",
+                            help=f"the {what} variable to use where the file does not mark "
+                            "it (CF attributes) or leaves a choice open (default: the one "
+                            "the velocity's coordinates attribute names)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -196,7 +207,7 @@ def build_parser() -> argparse.ArgumentParser:
     >>> build_parser().parse_args(["convert", "a.nc", "--out", "o"]).to
     'inertial'
     """
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     parser = argparse.ArgumentParser(
         prog="frameshift",
@@ -353,13 +364,13 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
         basis = args.basis or ("local" if args.to == "inertial" else "auto")
         operation = batch.convert_operation(
             args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
-            height=parse_height(args.height), dut1=args.dut1,
+            height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
         )
     else:
         operation = batch.terms_operation(
             args.terms, traditional=args.traditional, velocity=args.velocity,
             height=parse_height(args.height), include_parameters=args.include_parameters,
-            totals=_TOTALS[args.totals], keep_input=args.keep_input,
+            totals=_TOTALS[args.totals], keep_input=args.keep_input, **_coordinates(args),
         )
     summary = batch.run(args.inputs, operation, _options(args, command))
     failed = [o for o in summary.outcomes if o.status in ("failed", "interrupted")]
@@ -390,6 +401,12 @@ def failure_line(outcome: object) -> str:
     elif name:
         where = f" (variable {name!r})"
     return f"{outcome.status.upper()} {source}{where}: {cli_wording(outcome.reason)}"
+
+
+def _coordinates(args: argparse.Namespace) -> dict[str, str]:
+    """The --latitude/--longitude/--vertical/--time options that were given."""
+    keys = ("latitude", "longitude", "vertical", "time")
+    return {k: getattr(args, k) for k in keys if getattr(args, k, None) is not None}
 
 
 def main(argv: Sequence[str] | None = None) -> int:

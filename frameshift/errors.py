@@ -18,6 +18,8 @@ __all__ = [
     "MissingInputError",
     "UnitsError",
     "UnsupportedInputError",
+    "check_choice",
+    "check_finite",
 ]
 
 
@@ -104,3 +106,26 @@ def check_choice(name: str, value: object, choices: tuple[str, ...]) -> str:
             found=repr(value),
         )
     return value
+
+
+def check_finite(name: str, value: object) -> float:
+    """``value`` as a float if it is a finite real number; raise :class:`FrameError` if not.
+
+    Examples
+    --------
+    >>> check_finite("rate", 2)
+    2.0
+    """
+    import math
+
+    import numpy as np
+
+    ok = not isinstance(value, bool) and isinstance(value, (int, float, np.integer, np.floating))
+    if not ok or not math.isfinite(float(value)):
+        raise FrameError(
+            f"{name} must be a finite number; found {value!r}",
+            variable=name,
+            expected="finite number",
+            found=repr(value),
+        )
+    return float(value)

@@ -511,7 +511,7 @@ def write_manifest(
     --------
     >>> write_manifest("out/a.nc", ["a.nc"], {"to": "inertial"})  # doctest: +SKIP
     """
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     output = Path(output)
     record = {
@@ -550,7 +550,7 @@ def is_current(
     >>> is_current("nowhere/a.nc", ["a.nc"], {})
     (False, 'no output yet')
     """
-    from frameshift import __version__
+    from frameshift._version import __version__
 
     output = Path(output)
     if not output.exists():

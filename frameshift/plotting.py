@@ -25,7 +25,6 @@ from typing import TYPE_CHECKING
 import numpy as np
 import xarray as xr
 
-from frameshift import criteria
 from frameshift._plotkit import (
     _DPI,
     _TERM_LABELS,
@@ -59,9 +58,9 @@ from frameshift._plotkit import (
     _zero_panel,
     unit_label,
 )
-from frameshift.detect import INERTIAL, ROTATING, find_time, find_velocity
+from frameshift.detect import INERTIAL, ROTATING, criteria, find_time, read_layout
 from frameshift.errors import MissingInputError
-from frameshift.frames import EARTH, Planet
+from frameshift.frames import EARTH, Frame
 from frameshift.units import parse_units, scale_to
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -138,7 +137,7 @@ def plot_term_maps(
         draw, zero = names, []
     sample = terms_ds[f"{draw[0]}_{next(c for c in components if f'{draw[0]}_{c}' in terms_ds)}"]
     vdim = _vertical_dim(sample)
-    tname = find_time(terms_ds, tuple(sample.dims))
+    tname = find_time(terms_ds, sample.name)
     where = []
 
     def pick(da: xr.DataArray) -> xr.DataArray:
@@ -216,7 +215,7 @@ def plot_terms_timeseries(
     terms: Iterable[str] | None = None,
     components: Sequence[str] = criteria.COMPONENTS,
     section: str | None = "coriolis_eastward",
-    frame: Planet = EARTH,
+    frame: Frame = EARTH,
     path: str | PathLike | None = None,
     dpi: int = _DPI,
 ) -> Figure:
@@ -241,7 +240,7 @@ def plot_terms_timeseries(
         Components to draw.
     section : str or None
         Variable drawn as a depth-time section on top; None for none.
-    frame : Planet
+    frame : Frame
         Frame whose rotation rate gives the inertial period.
     path : path-like, optional
         Write a PNG here.
@@ -263,7 +262,7 @@ def plot_terms_timeseries(
     draw, zero = _nonzero_terms(terms_ds, names, components)
     draw = draw or names
     sample = terms_ds[f"{draw[0]}_{components[0]}"]
-    tname = find_time(terms_ds, tuple(sample.dims))
+    tname = find_time(terms_ds, sample.name)
     if tname is None:
         raise MissingInputError(
             "plot_terms_timeseries needs a time coordinate on the terms",
@@ -362,13 +361,13 @@ def plot_zonal_mean_velocity(
     >>> ds = xr.open_dataset("data_demo/global_winds.nc")  # doctest: +SKIP
     >>> fig = plot_zonal_mean_velocity(ds, frameshift.to_inertial(ds))  # doctest: +SKIP
     """
-    u_earth = earth_ds[find_velocity(earth_ds, target=INERTIAL).eastward]
-    u_inert = inertial_ds[find_velocity(inertial_ds, target=ROTATING).eastward]
+    u_earth = earth_ds[read_layout(earth_ds, target=INERTIAL).velocity.eastward]
+    u_inert = inertial_ds[read_layout(inertial_ds, target=ROTATING).velocity.eastward]
     lat_name = _coord_by_kind(earth_ds, "latitude")
     lon_name = _coord_by_kind(earth_ds, "longitude")
     zname = height or _height_name(earth_ds)
     zvar = earth_ds[zname]
-    tname = find_time(earth_ds, tuple(u_earth.dims))
+    tname = find_time(earth_ds, u_earth.name)
     vdim = _vertical_dim(u_earth)
     if vdim is None:
         raise MissingInputError(

@@ -78,13 +78,13 @@ def describe(
     >>> describe(xr.open_dataset("data_demo/tiny_example.nc"))["velocity"]  # doctest: +SKIP
     {'family': 'wind', 'eastward': {...}, ...}
     """
-    from frameshift.detect import INERTIAL, ROTATING, find_layout
+    from frameshift.detect import INERTIAL, ROTATING, read_layout
 
     report: dict = {"dimensions": {str(k): int(v) for k, v in ds.sizes.items()}}
     layout, error = None, None
     for target in (INERTIAL, ROTATING):
         try:
-            layout = find_layout(ds, velocity, height=height, target=target)
+            layout = read_layout(ds, velocity, height=height, target=target)
             break
         except FrameshiftError as exc:
             error = error or exc
@@ -94,32 +94,44 @@ def describe(
     if layout is None:
         report["velocity"] = {"refused": _reason(error)}
     else:
-        comps = {}
-        for comp, name in layout.velocity.items():
-            attrs = ds[name].attrs
-            comps[comp] = {
-                "variable": name,
-                "units": attrs.get("units"),
-                "standard_name": attrs.get("standard_name")
-                or attrs.get("standard_name_in_rotating_frame"),
-                "frame": attrs.get("reference_frame", "rotating (implied by standard_name)"),
-                "dims": list(map(str, ds[name].dims)),
-            }
-        report["velocity"] = {"family": layout.velocity.family, **comps}
-        report["position"] = {
-            axis: {"variable": name, "dims": list(map(str, ds[name].dims))}
-            for axis, name in (("latitude", layout.latitude), ("longitude", layout.longitude))
-        }
-        report["vertical"] = (
-            {"variable": layout.vertical, "units": ds[layout.vertical].attrs.get("units"),
-             "standard_name": ds[layout.vertical].attrs.get("standard_name"),
-             "sign": layout.vertical_sign}
-            if layout.vertical else None
-        )
-        report["notes"] = [cli_wording(n) for n in layout.notes]
+        report["sets"] = [_set_report(ds, vset) for vset in layout.sets]
+        report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
     report["operations"] = _operations(ds, velocity, height, celestial, dut1)
     return report
+
+
+def _set_report(ds: xr.Dataset, vset) -> dict:
+    """One velocity set: components, position, vertical and assumptions."""
+    comps = {}
+    for comp, name in vset.items():
+        attrs = ds[name].attrs
+        comps[comp] = {
+            "variable": name,
+            "units": attrs.get("units"),
+            "standard_name": attrs.get("standard_name")
+            or attrs.get("standard_name_in_rotating_frame"),
+            "frame": attrs.get("reference_frame", "rotating (implied by standard_name)"),
+            "dims": list(map(str, ds[name].dims)),
+        }
+    pos = vset.position
+    vertical = pos.vertical
+    return {
+        "velocity": {"family": vset.family, **comps},
+        "position": {
+            axis: {"variable": name, "dims": list(map(str, ds[name].dims))}
+            for axis, name in (("latitude", pos.latitude), ("longitude", pos.longitude))
+            if name is not None
+        },
+        "vertical": (
+            {"variable": vertical, "units": ds[vertical].attrs.get("units"),
+             "standard_name": ds[vertical].attrs.get("standard_name"),
+             "sign": pos.vertical_sign}
+            if vertical else None
+        ),
+        "time_variable": pos.time,
+        "notes": [cli_wording(n) for n in vset.notes],
+    }
 
 
 def _cartesian_report(ds: xr.Dataset) -> dict | None:
@@ -218,6 +230,26 @@ def inspect_files(inputs: Sequence[str], *, velocity: Mapping[str, str] | None =
     return status
 
 
+def _set_text(entry: dict) -> list[str]:
+    vel = entry["velocity"]
+    lines = [f"  velocity ({vel['family']}):"]
+    for comp in ("eastward", "northward", "upward"):
+        if comp in vel:
+            c = vel[comp]
+            lines.append(f"    {comp:9s} {c['variable']} [{c['units']}] "
+                         f"{c['standard_name'] or '-'}; frame: {c['frame']}")
+    pos = entry["position"]
+    lines.append("  position: " + ", ".join(
+        f"{k} {v['variable']}{tuple(v['dims']) or ' (scalar)'}" for k, v in pos.items()))
+    vert = entry["vertical"]
+    lines.append("  vertical: " + (
+        f"{vert['variable']} [{vert['units']}] {vert['standard_name'] or ''}".rstrip()
+        if vert else "none"))
+    for note in entry["notes"]:
+        lines.append(f"  assumes: {note}")
+    return lines
+
+
 def _text(entry: dict) -> str:
     lines = [entry["file"]]
     if "error" in entry:
@@ -232,21 +264,11 @@ def _text(entry: dict) -> str:
         if "cartesian" not in entry:  # a Cartesian file has no east/north velocity, rightly
             lines.append(f"  velocity: none usable: {vel['refused']}")
     else:
-        lines.append(f"  velocity ({vel['family']}):")
-        for comp in ("eastward", "northward", "upward"):
-            if comp in vel:
-                c = vel[comp]
-                lines.append(f"    {comp:9s} {c['variable']} [{c['units']}] "
-                             f"{c['standard_name'] or '-'}; frame: {c['frame']}")
-        pos = entry["position"]
-        lines.append("  position: " + ", ".join(
-            f"{k} {v['variable']}{tuple(v['dims']) or ' (scalar)'}" for k, v in pos.items()))
-        vert = entry["vertical"]
-        lines.append("  vertical: " + (
-            f"{vert['variable']} [{vert['units']}] {vert['standard_name'] or ''}".rstrip()
-            if vert else "none"))
-        for note in entry["notes"]:
-            lines.append(f"  assumes: {note}")
+        sets = entry.get("sets", [entry])
+        if len(sets) > 1:
+            lines.append(f"  {len(sets)} velocity sets (each converted by convert and terms):")
+        for one in sets:
+            lines.extend(_set_text(one))
     t = entry["time"]
     lines.append("  time: " + (
         f"{t['variable']} ({t['size']} values, {t['first']} to {t['last']}, "

@@ -7,6 +7,7 @@ attribute here, works out one scale factor to SI, and hands bare floats on.
 
 from __future__ import annotations
 
+import functools
 import re
 
 import pint
@@ -14,14 +15,28 @@ from cf_xarray.units import units as ureg
 
 from frameshift.errors import UnitsError
 
-__all__ = ["parse_units", "read_unit", "scale_to", "udunits_string", "ureg"]
+__all__ = ["KINDS", "parse_quantity", "parse_units", "scale_to", "udunits_string", "ureg"]
 
 _DIMENSIONS = {
     "speed": "[length] / [time]",
     "acceleration": "[length] / [time] ** 2",
     "length": "[length]",
     "pressure": "[mass] / [length] / [time] ** 2",
+    "time": "[time]",
+    "angular_velocity": "1 / [time]",
+    "angle": "dimensionless (angle)",
 }
+_EXAMPLES = {
+    "speed": "m s-1",
+    "acceleration": "m s-2",
+    "length": "m",
+    "pressure": "Pa",
+    "time": "s",
+    "angular_velocity": "rad s-1",
+    "angle": "degree",
+}
+#: The physical kinds :func:`parse_units` checks.
+KINDS = tuple(_DIMENSIONS)
 
 # Spellings cf-xarray's formatter writes that UDUNITS-2 reads otherwise or not at all,
 # and the UDUNITS-2 names to write instead (udunits2-common.xml).
@@ -49,7 +64,7 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
         Variable name, used in the error message.
     units : object
         The ``units`` attribute as found (``None`` if absent).
-    kind : {"speed", "acceleration", "length", "pressure"}
+    kind : {"speed", "acceleration", "length", "pressure", "time", "angular_velocity", "angle"}
         The dimension expected.
 
     Returns
@@ -59,7 +74,8 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
     Raises
     ------
     UnitsError
-        If the attribute is missing, unparseable, or of another dimension.
+        If the attribute is missing, unparseable (whatever the unit library
+        raised), or of another dimension.
 
     Examples
     --------
@@ -76,8 +92,8 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
             found="no units",
         )
     try:
-        unit = read_unit(str(units))
-    except (pint.errors.PintError, ValueError, TypeError, AttributeError) as exc:
+        unit = _parse(units if isinstance(units, str) else str(units))
+    except Exception as exc:  # the unit library raises many kinds on odd text
         raise UnitsError(
             f"variable {variable!r} has units {units!r}, which are not a recognised unit; "
             f"expected units of {kind} ({expected}), e.g. {_example(kind)!r}",
@@ -85,7 +101,7 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
             expected=expected,
             found=str(units),
         ) from exc
-    if unit.dimensionality != ureg.Unit(_example(kind)).dimensionality:
+    if unit.dimensionality != _parse(_example(kind)).dimensionality:
         raise UnitsError(
             f"variable {variable!r} has units {units!r} of dimension "
             f"{unit.dimensionality}; expected units of {kind} ({expected})",
@@ -96,25 +112,67 @@ def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
     return unit
 
 
-def read_unit(text: str) -> pint.Unit:
-    """A unit from its text, including a scaled unit such as ``0.5 m s-1`` (UDUNITS-2
-    allows a leading factor; frameshift writes one for units UDUNITS-2 cannot name).
-
-    Examples
-    --------
-    >>> round(scale_to(read_unit("0.5 m s-1"), "m s-1"), 12)
-    0.5
-    """
+@functools.lru_cache(maxsize=512)
+def _parse(text: str) -> pint.Unit:
+    """The one call into the unit library's parser (cached: each text parsed once)."""
+    if not text.isprintable() or len(text) > 200:
+        raise ValueError("unit text with control characters or over 200 characters")
     try:
         return ureg.Unit(text)
     except ValueError:
         if not _SCALED.match(text):
             raise
+    # a scaled unit such as "0.5 m s-1" (UDUNITS-2 allows a leading factor; frameshift
+    # writes one for units UDUNITS-2 cannot name): a unit of its own in the registry
     quantity = ureg.Quantity(text)
-    name = "scaled_" + re.sub(r"\W", "_", f"{float(quantity.magnitude)!r}_{quantity.units}")
+    factor = float(quantity.magnitude)
+    name = "scaled_" + re.sub(r"\W", "_", f"{factor!r}_{quantity.units}")
     if name not in ureg:
-        ureg.define(f"{name} = {float(quantity.magnitude)!r} * {quantity.units}")
+        ureg.define(f"{name} = {factor!r} * {quantity.units}")
     return ureg.Unit(name)
+
+
+def parse_quantity(variable: str, text: str, units: object) -> float:
+    """A quantity written as text (``"250 hPa"``) in the ``units`` of a variable.
+
+    Examples
+    --------
+    >>> parse_quantity("plev", "250 hPa", "Pa")
+    25000.0
+    """
+    target = parse_units(variable, units, _kind_of(units))
+    try:
+        quantity = ureg.Quantity(text)
+        return float(quantity.to(target).magnitude)
+    except Exception as exc:  # the unit library raises many kinds on odd text
+        raise UnitsError(
+            f"{text!r} is not a quantity convertible to the units of {variable!r} ({units!r})",
+            variable=variable,
+            expected=f"a number with units convertible to {units}",
+            found=str(text),
+        ) from exc
+
+
+def _kind_of(units: object) -> str:
+    """The kind of ``units`` among :data:`KINDS` (for error messages and checks)."""
+    try:
+        dimensionality = _parse(str(units)).dimensionality
+    except Exception as exc:
+        raise UnitsError(
+            f"{units!r} is not a recognised unit",
+            variable="units",
+            expected="a UDUNITS unit",
+            found=str(units),
+        ) from exc
+    for kind, example in _EXAMPLES.items():
+        if _parse(example).dimensionality == dimensionality:
+            return kind
+    raise UnitsError(
+        f"{units!r} is of none of the kinds frameshift handles ({', '.join(_EXAMPLES)})",
+        variable="units",
+        expected=", ".join(_EXAMPLES),
+        found=str(units),
+    )
 
 
 def scale_to(unit: pint.Unit, target: str) -> float:
@@ -125,7 +183,7 @@ def scale_to(unit: pint.Unit, target: str) -> float:
     >>> round(scale_to(ureg.Unit("knot"), "m s-1"), 6)
     0.514444
     """
-    return float(ureg.Quantity(1.0, unit).to(target).magnitude)
+    return float(ureg.Quantity(1.0, unit).to(_parse(target)).magnitude)
 
 
 def udunits_string(unit: pint.Unit | str) -> str:
@@ -134,7 +192,8 @@ def udunits_string(unit: pint.Unit | str) -> str:
     pint's symbols that UDUNITS-2 reads otherwise are rewritten (``kn`` ->
     ``knot``, ``mph`` -> ``mi h-1``, ``kph`` -> ``km h-1``); a unit UDUNITS-2
     has no name for is written as a scaled SI unit (``furlong/fortnight`` ->
-    ``0.00016630952380952381 m s-1``), which UDUNITS-2 reads exactly.
+    ``0.00016630985642923665 m s-1``), which UDUNITS-2 and :func:`parse_units`
+    read exactly.
 
     Examples
     --------
@@ -145,16 +204,16 @@ def udunits_string(unit: pint.Unit | str) -> str:
     >>> udunits_string("mph")
     'mi h-1'
     """
-    unit = ureg.Unit(unit)
+    unit = _parse(unit) if isinstance(unit, str) else unit
     spelled = ureg.Unit("")
     for name, power in unit._units.items():
-        if not _is_safe(f"{ureg.Unit(name):cf}"):
-            parts = _definition(name)
-            if parts is None:
-                return _scaled_si(unit)
-            spelled *= parts**power
-        else:
+        if _is_safe(f"{ureg.Unit(name):cf}"):
             spelled *= ureg.Unit(name) ** power
+            continue
+        parts = _definition(name)
+        if parts is None:
+            return _scaled_si(unit)
+        spelled *= parts**power
     text = f"{spelled:cf}"
     return _TOKEN.sub(lambda m: _NOT_UDUNITS.get(m.group(0), m.group(0)), text)
 
@@ -166,8 +225,9 @@ def _is_safe(text: str) -> bool:
 def _definition(name: str) -> pint.Unit | None:
     """A unit pint defines as an exact product of UDUNITS-safe units (mph = mile/hour)."""
     definition = ureg._units.get(name)
-    scale = getattr(getattr(definition, "converter", None), "scale", None)
-    if definition is None or scale != 1.0 or getattr(definition.converter, "offset", 0):
+    converter = getattr(definition, "converter", None)
+    if definition is None or getattr(converter, "scale", None) != 1.0 or getattr(
+            converter, "offset", 0):
         return None
     parts = ureg.Unit("")
     for part, power in definition.reference.items():
@@ -186,4 +246,4 @@ def _scaled_si(unit: pint.Unit) -> str:
 
 
 def _example(kind: str) -> str:
-    return {"speed": "m s-1", "acceleration": "m s-2", "length": "m", "pressure": "Pa"}[kind]
+    return _EXAMPLES[kind]

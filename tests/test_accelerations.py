@@ -4,8 +4,6 @@ and a closure test (an inertial straight line seen from the rotating frame)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import erfa
 import numpy as np
 import pytest
@@ -23,7 +21,8 @@ from frameshift import (
     UnsupportedInputError,
 )
 from frameshift._kernels import accelerations as ak
-from frameshift.timescales import julian_date_parts
+from frameshift.frames import Ellipsoid, Frame, RateSeries, SteadyRate
+from frameshift.frames.timescales import julian_date_parts
 from tests.helpers import (
     BUILDERS,
     all_kinds,
@@ -329,39 +328,37 @@ def test_eotvos_correction_of_marine_gravimetry(frame, rel_v2, layout):
 
 
 # --- closure: an inertial straight line seen from the rotating frame -------------------
-@dataclass(frozen=True)
-class SpinningUp(Planet):
-    """Test body whose rate grows uniformly: Ω(t) = Ω0 + α t, angle Ω0 t + α t²/2,
-    counted from ``epoch_jd`` (a test double for an unsteady frame)."""
+#: spin-up of the test frames: Ω(t) = Ω0 + α t from the epoch (Ω changes by 0.2 % per 2 h)
+SPIN_UP = 2e-10
+SPIN_EPOCH = np.datetime64("2024-03-15T06:00", "ns")
 
-    spin_up: float = 0.0
-    epoch_jd: float = 2460384.75
 
-    @property
-    def steady(self) -> bool:
-        return self.spin_up == 0.0
+def spin_up_rate(seconds):
+    """Ω0 + α t (rad s-1), t in seconds since the epoch: a rate law given as a function."""
+    return OMEGA + SPIN_UP * np.asarray(seconds)
 
-    def _seconds(self, jd1, jd2):
-        jd2 = 0.0 if jd2 is None else jd2
-        return ((np.asarray(jd1, dtype=float) - self.epoch_jd) + np.asarray(jd2)) * 86400.0
 
-    def rotation_rate_at(self, jd1, jd2=None):
-        return self.rotation_rate + self.spin_up * self._seconds(jd1, jd2)
-
-    def rotation_vector_rate(self, jd1, jd2=None):
-        out = np.zeros((*np.shape(jd1), 3))
-        out[..., 2] = self.spin_up
-        return out
-
-    def rotation_angle(self, jd1, jd2):
-        t = self._seconds(jd1, jd2)
-        return np.mod(self.rotation_rate * t + 0.5 * self.spin_up * t * t, 2 * np.pi)
+def spin_up_rate_of_change(seconds):
+    return np.full(np.shape(seconds), SPIN_UP)
 
 
 #: an arbitrary strongly flattened, fast-rotating body (Saturn-like numbers)
 FLAT_BODY = Planet("flattened test body", 1.6378499e-4, 60268e3, inverse_flattening=10.2)
 #: a test body spinning up at 2e-10 rad s-2 (Ω changes by 0.2 % over the test)
-SPINNING = SpinningUp("spinning test body", 7.292115e-5, 6378137.0, 298.257223563, spin_up=2e-10)
+_SPIN_SERIES = xr.DataArray(  # two samples a day apart: linear in between, so exact
+    [OMEGA, OMEGA + SPIN_UP * 86400.0],
+    dims="t",
+    coords={"t": [SPIN_EPOCH, SPIN_EPOCH + np.timedelta64(1, "D")]},
+    attrs={"units": "rad s-1"},
+)
+#: a WGS 84 body spinning up at α = 2e-10 rad s-2, its rate given as a series over time
+SPINNING = Planet("spinning test body", OMEGA, A_WGS84, 298.257223563).with_rotation(
+    RateSeries(_SPIN_SERIES)
+)
+#: the same spin-up given as a function of time, valid at any date
+SPINNING_FUNCTION = SPINNING.with_rotation(
+    RateSeries(spin_up_rate, epoch=SPIN_EPOCH, rate_of_change=spin_up_rate_of_change)
+)
 
 
 def _inertial_line(frame, dt=1.0, layout="eager", n=601):
@@ -427,7 +424,7 @@ def test_closure_fails_without_a_term(layout):
     x = rot["northward_velocity"].values
     d4 = (-x[4:] + 8 * x[3:-1] - 8 * x[1:-3] + x[:-4]) / 12.0
     for term in ("coriolis", "centrifugal", "curvature"):
-        others = tuple(t for t in frameshift.accelerations.TERMS if t != term)
+        others = tuple(t for t in frameshift.dynamics.TERMS if t != term)
         acc = frameshift.apparent_accelerations(rot, terms=others, velocity=VELOCITY_NAMES)
         assert np.abs(d4 - acc["total_northward"].values[2:-2]).max() > 1e-6
 
@@ -594,15 +591,15 @@ def test_euler_of_a_spinning_up_frame_on_a_grid(layout):
     # for dΩ/dt = α on the axis, -(dΩ/dt)×r = -α p eastward (p = (N + h) cos φ);
     # the frame is unsteady, so Ω is taken at each time of the Dataset
     ds = as_layout(BUILDERS["grid"](), layout)
-    out = frameshift.apparent_accelerations(ds, SPINNING)
+    out = frameshift.apparent_accelerations(ds, SPINNING_FUNCTION)
     lat = np.deg2rad(ds["lat"])
     n = A_WGS84 / np.sqrt(1 - F_WGS84 * (2 - F_WGS84) * np.sin(lat) ** 2)
     p = (n + ds["z"]) * np.cos(lat)
     xr.testing.assert_allclose(
         out["euler_eastward"], (-2e-10 * p).broadcast_like(ds["ua"]), rtol=1e-12
     )
-    jd1, jd2 = julian_date_parts(ds["time"].values)
-    omega = xr.DataArray(SPINNING.rotation_rate_at(jd1, jd2), dims="time")
+    seconds = (ds["time"].values - SPIN_EPOCH) / np.timedelta64(1, "s")
+    omega = xr.DataArray(OMEGA + SPIN_UP * seconds, dims="time")  # the law, by hand
     expected = (-2 * omega * np.sin(lat) * ds["ua"]).transpose(*ds["ua"].dims)
     np.testing.assert_allclose(out["coriolis_northward"].values, expected.values, rtol=1e-12)
 
@@ -626,18 +623,18 @@ def test_errors_name_what_is_missing(layout):
     with pytest.raises(FrameError, match="to_rotating"):
         frameshift.apparent_accelerations(inertial)
     with pytest.raises(MissingInputError, match="time"):
-        frameshift.apparent_accelerations(ds.isel(time=0, drop=True), SPINNING)
+        frameshift.apparent_accelerations(ds.isel(time=0, drop=True), SPINNING_FUNCTION)
 
 
 @eager_and_chunked
 def test_rotation_off_the_figure_axis_is_refused(layout):
-    @dataclass(frozen=True)
-    class Wobbling(Planet):
-        def rotation_vector(self, jd1, jd2=None):
-            out = super().rotation_vector(jd1, jd2)
+    # no rotation law ships with polar motion; a frame that reports one is refused
+    class Wobbling(Frame):
+        def rotation_vector(self, t, jd2=None):
+            out = super().rotation_vector(t, jd2)
             out[..., 0] = 1e-12
             return out
 
-    body = Wobbling("wobbling test body", OMEGA, A_WGS84, 298.257223563)
+    body = Wobbling("wobbling test body", SteadyRate(OMEGA), Ellipsoid(A_WGS84, 298.257223563))
     with pytest.raises(UnsupportedInputError, match="z axis"):
         frameshift.apparent_accelerations(as_layout(BUILDERS["grid"](), layout), body)

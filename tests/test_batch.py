@@ -58,16 +58,24 @@ def test_outputs_never_replace_inputs(tree):
 
 
 def test_one_failure_does_not_stop_the_others(tmp_path):
-    files = [DEMO / "packed_knots.nc", DEMO / "tiny_example.nc"]
+    # a file whose velocities carry no standard names fails; the next one is still done
+    broken = tmp_path / "in" / "anonymous.nc"
+    broken.parent.mkdir()
+    with xr.open_dataset(DEMO / "packed_knots.nc") as ds:
+        anonymous = ds.copy()
+        for name in ("wspd_u", "wspd_v", "cur_u", "cur_v"):
+            anonymous[name].attrs.pop("standard_name")
+        anonymous.to_netcdf(broken)
+    files = [broken, DEMO / "tiny_example.nc"]
     summary = batch.run(files, batch.convert_operation(), _options(tmp_path / "o"))
     status = {o.job.inputs[0].name: o for o in summary.outcomes}
     assert status["tiny_example.nc"].status == "written"
-    failed = status["packed_knots.nc"]
+    failed = status["anonymous.nc"]
     assert failed.status == "failed" and failed.variable == "velocity"
-    assert "more than one set of velocities" in failed.reason
-    assert "packed_knots.nc" in failed.line() and "velocity" in failed.line()
+    assert "no eastward/northward velocity pair" in failed.reason
+    assert "anonymous.nc" in failed.line() and "velocity" in failed.line()
     assert summary.exit_code == 1
-    assert not (tmp_path / "o" / "packed_knots.nc").exists()
+    assert not (tmp_path / "o" / "anonymous.nc").exists()
     stopped = batch.run(files, batch.convert_operation(), _options(tmp_path / "p", fail_fast=True))
     assert [o.status for o in stopped.outcomes] == ["failed"]
 

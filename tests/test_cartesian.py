@@ -58,7 +58,7 @@ def test_cirs_matches_erfa_pvtob(layout):
     out = frameshift.to_inertial(
         as_layout(_fixed_points(TIMES, **SITES), layout), basis="cartesian"
     ).transpose(..., "component")
-    jd1, jd2 = frameshift.timescales.julian_date_parts(TIMES)
+    jd1, jd2 = frameshift.frames.timescales.julian_date_parts(TIMES)
     for i in range(len(SITES["lat"])):
         for k in range(len(TIMES)):
             theta = erfa.era00(jd1[k], jd2[k])

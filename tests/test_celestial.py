@@ -6,8 +6,8 @@ import pytest
 
 from frameshift import EARTH
 from frameshift._kernels import rotation
-from frameshift.celestial import NODE_STEP, body_to_inertial_matrix, cip_coordinates
-from frameshift.timescales import julian_date_parts, utc_to_tt
+from frameshift.frames.celestial import NODE_STEP, body_to_inertial_matrix, cip_coordinates
+from frameshift.frames.timescales import julian_date_parts, utc_to_tt
 
 
 def _dates(start: str, days: float, n: int, seed: int = 0):

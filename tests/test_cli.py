@@ -114,7 +114,7 @@ def test_local_round_trip_keeps_untouched_variables_byte_for_byte(runs):
         assert "scale_factor" not in east.ncattrs() and "add_offset" not in east.ncattrs()
     for name in TIMED:
         with xr.open_dataset(DEMO / name) as ds:
-            moved = set(frameshift.detect.find_velocity(ds).names())
+            moved = {n for s in frameshift.detect.read_layout(ds).sets for n in s.names()}
         with netCDF4.Dataset(DEMO / name) as a, netCDF4.Dataset(runs / "local" / name) as b:
             a.set_auto_maskandscale(False)
             b.set_auto_maskandscale(False)
@@ -126,14 +126,15 @@ def test_cartesian_round_trip_restores_the_velocities(runs):
     for name in TIMED:
         with xr.open_dataset(DEMO / name) as a, xr.open_dataset(runs / "cart_back" / name) as b, \
                 xr.open_dataset(runs / "cart" / name) as c:
-            speed = float(np.sqrt((c["velocity"] ** 2).sum("component")).max())
-            vset = frameshift.detect.find_velocity(a)
+            speed = max(float(np.sqrt((c[v] ** 2).sum("component")).max())
+                        for v in c.data_vars if v.startswith("velocity"))
             assert speed < 520.0  # |V| + Ω a bounds the inertial speed of these winds
-            for var in vset.names():
-                bound = _round_trip_bound(a[var], c["velocity"].encoding["dtype"], 2)
-                np.testing.assert_allclose(b[var].values, a[var].values, rtol=0,
-                                           atol=bound, err_msg=f"{name}:{var}")
-            assert b[vset.eastward].attrs["reference_frame"] == "rotating"
+            for vset in frameshift.detect.read_layout(a).sets:  # every set, each converted
+                for var in vset.names():
+                    bound = _round_trip_bound(a[var], c["velocity"].encoding["dtype"], 2)
+                    np.testing.assert_allclose(b[var].values, a[var].values, rtol=0,
+                                               atol=bound, err_msg=f"{name}:{var}")
+                assert b[vset.eastward].attrs["reference_frame"] == "rotating"
 
 
 def test_every_written_file_passes_the_cf_checker(runs):
@@ -175,15 +176,22 @@ def test_terms_output(runs):
 
 
 def test_failures_give_one_line_each_and_a_nonzero_exit(tmp_path, capsys):
-    code = _run("convert", DEMO / "packed_knots.nc", DEMO / "tiny_example.nc",
-                "--out", tmp_path, "--quiet")
+    anonymous = tmp_path / "in" / "anonymous.nc"  # velocities without standard names
+    anonymous.parent.mkdir()
+    with xr.open_dataset(DEMO / "packed_knots.nc") as ds:
+        copy = ds.copy()
+        for name in ("wspd_u", "wspd_v", "cur_u", "cur_v"):
+            copy[name].attrs.pop("standard_name")
+        copy.to_netcdf(anonymous)
+    code = _run("convert", anonymous, DEMO / "tiny_example.nc", "--out", tmp_path / "o",
+                "--quiet")
     assert code == 1
     err = capsys.readouterr().err.splitlines()
     failed = [line for line in err if line.startswith("FAILED")]
     assert len(failed) == 1
-    assert "packed_knots.nc" in failed[0] and "(option --velocity)" in failed[0]
+    assert "anonymous.nc" in failed[0] and "(option --velocity)" in failed[0]
     assert "--velocity eastward=NAME,northward=NAME" in failed[0]
-    assert (tmp_path / "tiny_example.nc").exists()
+    assert [p.name for p in (tmp_path / "o").rglob("*.nc")] == ["tiny_example.nc"]
 
 
 def test_quiet_success_prints_nothing(tmp_path, capsys):
@@ -245,7 +253,8 @@ def test_module_and_console_script_run():
 def test_inspect_reports_detection_and_refusals(capsys):
     assert _run("inspect", DEMO / "packed_knots.nc", DEMO / "balloon_track.nc") == 0
     text = capsys.readouterr().out
-    assert "more than one set of velocities" in text
+    assert "2 velocity sets" in text  # winds and currents of the buoy, each listed
+    assert "eastward  wspd_u [knot]" in text and "eastward  cur_u" in text
     assert "calendar noleap" in text
     assert "convert --to inertial --basis cartesian: refused" in text
     assert "eastward  u [m s-1] eastward_wind" in text

@@ -61,7 +61,14 @@ def test_help_lists_valid_values(capsys, command, listed):
 
 
 def test_messages_name_options_not_python(tmp_path, capsys):
-    assert _run("convert", DEMO / "packed_knots.nc", "--out", tmp_path, "--quiet") == 1
+    anonymous = tmp_path / "in" / "anonymous.nc"  # velocities without standard names
+    anonymous.parent.mkdir()
+    with xr.open_dataset(DEMO / "packed_knots.nc") as ds:
+        copy = ds.copy()
+        for name in ("wspd_u", "wspd_v", "cur_u", "cur_v"):
+            copy[name].attrs.pop("standard_name")
+        copy.to_netcdf(anonymous)
+    assert _run("convert", anonymous, "--out", tmp_path / "o", "--quiet") == 1
     err = capsys.readouterr().err
     assert "(option --velocity)" in err and "--velocity eastward=NAME,northward=NAME" in err
     assert "velocity={" not in err and "(variable 'velocity')" not in err
@@ -109,7 +116,15 @@ def test_inspect_takes_the_options_that_decide(tmp_path, capsys):
     assert report["operations"]["convert --to inertial --basis local"] == "ok"
     assert report["operations"]["terms"] == "ok"
     assert any("given by the caller (--height)" in note for note in report["notes"])
-    assert _run("inspect", DEMO / "packed_knots.nc") == 0
+    assert _run("inspect", tmp_path / "nothing.nc") == 2  # a missing input: usage error
+    assert "matches no file" in capsys.readouterr().err
+    anonymous = tmp_path / "anonymous.nc"
+    with xr.open_dataset(DEMO / "packed_knots.nc") as ds:
+        copy = ds.copy()
+        for name in ("wspd_u", "wspd_v", "cur_u", "cur_v"):
+            copy[name].attrs.pop("standard_name")
+        copy.to_netcdf(anonymous)
+    assert _run("inspect", anonymous) == 0
     text = capsys.readouterr().out
     assert "found found" not in text and "velocity={" not in text
     assert "--velocity eastward=NAME" in text

@@ -14,7 +14,7 @@ import numpy as np
 import xarray as xr
 
 import frameshift
-from frameshift.timescales import julian_date_parts
+from frameshift.frames.timescales import julian_date_parts
 from tests.benchmarks.data import obs_points, station_points
 from tests.benchmarks.harness import Row, median_time, verdict
 

@@ -17,18 +17,18 @@ from frameshift._apply import apply_kernel
 from frameshift._kernels import accelerations as ak
 from frameshift.cf import stamp
 from frameshift.detect import (
-    _degrees,
-    _find_vertical,
-    _plain,
-    given_height_in_metres,
-    length_in_metres,
+    find_dataset_axis,
+    find_vertical,
+    given_height,
+    length_values,
+    plain,
 )
 from frameshift.errors import (
     FrameError,
     InputTypeError,
     check_choice,
 )
-from frameshift.frames import EARTH, Planet, check_frame
+from frameshift.frames import EARTH, Ellipsoid, Frame, check_frame
 
 __all__ = ["GRAVITY_METHODS", "normal_gravity"]
 
@@ -60,7 +60,7 @@ _MODELS = {
 
 def normal_gravity(
     data: xr.Dataset | xr.DataArray | float,
-    frame: Planet = EARTH,
+    frame: Frame = EARTH,
     *,
     height: object = None,
     method: str = "exact",
@@ -75,7 +75,7 @@ def normal_gravity(
         coordinate (found as for the velocity functions: ellipsoidal height,
         altitude, height, depth); a latitude DataArray with that metadata; or a
         number, taken as degrees north.
-    frame : Planet, default EARTH
+    frame : Frame, default EARTH
         Needs ``gm``; its ellipsoid and ``rotation_rate`` define the field.
     height : float, str or DataArray, optional
         Height above the ellipsoid (m; a DataArray needs length units; a string
@@ -121,7 +121,7 @@ def normal_gravity(
     >>> round(float(g["normal_gravity"]), 10)  # γe of WGS 84, NIMA TR8350.2
     9.7803253359
     """
-    check_frame(frame)
+    check_frame(frame, Ellipsoid)
     check_choice("method", method, GRAVITY_METHODS)
     if frame.gm is None:
         raise FrameError(
@@ -173,7 +173,7 @@ def _position(data, height) -> tuple[xr.Dataset | None, xr.DataArray, xr.DataArr
     elif isinstance(data, xr.DataArray):
         ds = data.to_dataset(name=data.name if data.name is not None else "latitude")
     if ds is not None:
-        lat = _plain(ds[_degrees(ds, "latitude")])
+        lat = plain(ds[find_dataset_axis(ds, "latitude")]).astype("float64")
     else:
         try:
             lat = xr.DataArray(float(data))
@@ -186,13 +186,13 @@ def _position(data, height) -> tuple[xr.Dataset | None, xr.DataArray, xr.DataArr
                 found=type(data).__name__,
             ) from exc
     if height is None and ds is not None:
-        vertical, sign, note = _find_vertical(ds, tuple(ds.dims))
+        vertical, sign, note = find_vertical(ds, None)
         if vertical is not None:
             if note:
                 notes.append(note)
-            return ds, lat, length_in_metres(ds[vertical], vertical, sign), notes
+            return ds, lat, length_values(ds[vertical], vertical, sign), notes
         notes.append("no vertical coordinate; height taken as 0 m on the reference ellipsoid")
         return ds, lat, xr.DataArray(0.0), notes
     if height is None:
         return ds, lat, xr.DataArray(0.0), notes
-    return ds, lat, given_height_in_metres(ds, height), notes
+    return ds, lat, given_height(ds, height), notes

@@ -1,19 +1,106 @@
-"""Time values to two-part Julian dates, and UTC to the scales rotation needs.
+"""Time for rotation laws: real dates as two-part Julian dates, or elapsed seconds.
 
 Velocity records carry civil time (UTC, or something close to it) as
-``datetime64`` or ``cftime`` values. The Earth Rotation Angle wants UT1
-(UTC + ``dut1``); precession-nutation wants TT (UTC + leap seconds + 32.184 s,
-via pyerfa). Model calendars (``noleap``, ``360_day``...) do not map onto real
-days, so the rotation angle is refused for them rather than guessed.
+``datetime64`` or ``cftime`` values; laboratory records carry seconds on the
+experiment's own clock. Both become :class:`Instants`, the one time value the
+rotation laws read. The Earth Rotation Angle wants UT1 (UTC + ``dut1``);
+precession-nutation wants TT (UTC + leap seconds + 32.184 s, via pyerfa).
+Model calendars (``noleap``, ``360_day``...) do not map onto real days, so
+the rotation angle is refused for them rather than guessed.
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 import numpy as np
 
 from frameshift.errors import MissingInputError, UnsupportedInputError
 
-__all__ = ["julian_date_parts", "utc_to_tt"]
+__all__ = [
+    "ELAPSED",
+    "UTC",
+    "Instants",
+    "instants_of",
+    "julian_date_parts",
+    "require_erfa",
+    "utc_to_tt",
+]
+
+#: The two kinds of time a rotation law reads.
+UTC = "utc"
+ELAPSED = "elapsed"
+_NS_PER_SECOND = 1_000_000_000
+
+
+@dataclass(frozen=True, eq=False)
+class Instants:
+    """Times at which a rotation law is evaluated.
+
+    Either real dates, as two-part UTC Julian dates (``kind == "utc"``: ``jd1``
+    whole days plus 0.5, ``jd2`` the fraction), or seconds elapsed on an
+    experiment's clock (``kind == "elapsed"``: ``seconds``). Make them with
+    :meth:`from_julian`, :meth:`from_seconds` or :func:`instants_of`.
+
+    Examples
+    --------
+    >>> t = Instants.from_seconds([0.0, 1.5])
+    >>> t.kind, t.shape
+    ('elapsed', (2,))
+    """
+
+    kind: str
+    jd1: np.ndarray | None = None
+    jd2: np.ndarray | None = None
+    seconds: np.ndarray | None = None
+
+    @classmethod
+    def from_julian(cls, jd1, jd2=0.0) -> Instants:
+        """Real (UTC) dates from two-part Julian dates, broadcast together."""
+        a, b = np.broadcast_arrays(np.asarray(jd1, np.float64), np.asarray(jd2, np.float64))
+        return cls(UTC, jd1=a, jd2=b)
+
+    @classmethod
+    def from_seconds(cls, seconds) -> Instants:
+        """Seconds elapsed on an experiment's clock."""
+        return cls(ELAPSED, seconds=np.asarray(seconds, np.float64))
+
+    @property
+    def shape(self) -> tuple[int, ...]:
+        return np.shape(self.jd1 if self.kind == UTC else self.seconds)
+
+    def seconds_since(self, epoch: tuple[float, float] | float) -> np.ndarray:
+        """Seconds from ``epoch`` (a two-part Julian date for real dates, else seconds)."""
+        if self.kind == UTC:
+            e1, e2 = epoch
+            return ((self.jd1 - e1) + (self.jd2 - e2)) * 86400.0
+        return self.seconds - float(epoch)
+
+
+def instants_of(values, variable: str = "time") -> Instants:
+    """Decoded time values as :class:`Instants`.
+
+    ``datetime64`` and ``cftime`` values of a real calendar are UTC dates;
+    ``timedelta64`` values are seconds elapsed on an experiment's clock.
+
+    Examples
+    --------
+    >>> instants_of(np.array([0, 2], "timedelta64[s]")).seconds
+    array([0., 2.])
+    """
+    values = np.asarray(values)
+    if np.issubdtype(values.dtype, np.timedelta64):
+        if np.isnat(values).any():
+            raise MissingInputError(
+                f"{variable!r} holds missing times (NaT); the rotation needs every time",
+                variable=variable,
+                expected="valid times",
+                found="NaT",
+            )
+        ns = values.astype("timedelta64[ns]").astype(np.int64)
+        whole, rest = np.divmod(ns, _NS_PER_SECOND)
+        return Instants.from_seconds(whole.astype(np.float64) + rest / _NS_PER_SECOND)
+    return Instants.from_julian(*julian_date_parts(values, variable))
 
 _UNIX_EPOCH_JD = 2440587.5
 _NS_PER_DAY = 86_400_000_000_000
@@ -95,7 +182,7 @@ def utc_to_tt(jd1: np.ndarray, jd2: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     """UTC two-part Julian date to TT, with leap seconds from pyerfa (SOFA)."""
     import warnings
 
-    erfa = _require_erfa()
+    erfa = require_erfa()
     with warnings.catch_warnings():
         # Past the end of pyerfa's leap-second table, UTC -> TAI is "dubious":
         # a leap second not yet announced shifts TT by 1 s, which moves the
@@ -105,7 +192,8 @@ def utc_to_tt(jd1: np.ndarray, jd2: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     return erfa.taitt(tai1, tai2)
 
 
-def _require_erfa():
+def require_erfa():
+    """pyerfa, or an error saying how to install it."""
     try:
         import erfa
     except ImportError as exc:  # pragma: no cover - exercised only without the extra

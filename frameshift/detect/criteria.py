@@ -1,21 +1,31 @@
 """What frameshift looks for in a Dataset, kept as plain tables.
 
-The logic that uses these tables lives in :mod:`frameshift.detect`.
+The logic that uses these tables lives in the other modules of
+:mod:`frameshift.detect`. New capabilities add their criteria here, as data.
 """
 
 from __future__ import annotations
 
 __all__ = [
+    "AXIS_STANDARD_NAMES",
+    "AXIS_UNITS",
     "COMPONENTS",
     "FAMILY_LABELS",
     "GRID_RELATIVE_STANDARD_NAMES",
     "LATITUDE_UNITS",
     "LONGITUDE_UNITS",
+    "PLANAR_COMPONENTS",
+    "PRESSURE_STANDARD_NAMES",
+    "TIME_STANDARD_NAMES",
     "VELOCITY_STANDARD_NAMES",
     "VERTICAL_STANDARD_NAMES",
 ]
 
+#: Components on local east/north/up axes (ellipsoidal frames).
 COMPONENTS = ("eastward", "northward", "upward")
+#: Components on a lab's x/y/z axes (plane frames); CF has no standard names for them,
+#: so they are named by the caller (``velocity={"x": ..., "y": ...}``).
+PLANAR_COMPONENTS = ("x", "y", "z")
 
 #: Earth-relative velocity components by family (CF standard name table v93).
 VELOCITY_STANDARD_NAMES: dict[str, dict[str, str]] = {
@@ -71,3 +81,10 @@ LATITUDE_UNITS = frozenset(
 LONGITUDE_UNITS = frozenset(
     {"degrees_east", "degree_east", "degree_E", "degrees_E", "degreeE", "degreesE"}
 )
+
+#: Horizontal position axes: the standard name and the CF units that mark each.
+AXIS_STANDARD_NAMES = {"latitude": "latitude", "longitude": "longitude"}
+AXIS_UNITS = {"latitude": LATITUDE_UNITS, "longitude": LONGITUDE_UNITS}
+
+#: Time coordinates by standard name (besides decoded datetime/timedelta values).
+TIME_STANDARD_NAMES = frozenset({"time"})

@@ -21,18 +21,21 @@ import xarray as xr
 
 from frameshift._apply import apply_kernel
 from frameshift._kernels import accelerations as ak
-from frameshift._kernels.rotation import J2000
 from frameshift.cf import stamp
 from frameshift.detect import (
     INERTIAL,
     ROTATING,
     Layout,
-    _degrees,
-    _plain,
-    find_layout,
+    Position,
+    VelocitySet,
+    find_dataset_axis,
     find_time,
-    height_in_metres,
+    height_values,
+    plain,
+    position_values,
+    read_layout,
     require_dataset,
+    time_instants,
 )
 from frameshift.errors import (
     ConventionError,
@@ -40,9 +43,7 @@ from frameshift.errors import (
     MissingInputError,
     UnsupportedInputError,
 )
-from frameshift.frames import EARTH, Planet, check_frame
-from frameshift.timescales import julian_date_parts
-from frameshift.units import parse_units, scale_to
+from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, check_frame
 
 __all__ = ["TERMS", "TERM_FORMULAS", "TOTALS", "apparent_accelerations", "coriolis_parameters"]
 
@@ -103,14 +104,18 @@ _TRADITIONAL_NOTE = (
 
 def apparent_accelerations(
     ds: xr.Dataset,
-    frame: Planet = EARTH,
+    frame: Frame = EARTH,
     *,
     terms: str | Iterable[str] | None = None,
     traditional: bool = False,
-    velocity: Mapping[str, str] | None = None,
+    velocity: Mapping[str, str] | list[Mapping[str, str]] | None = None,
     height: object = None,
     include_parameters: bool = False,
     totals: str | Iterable[str] = "full",
+    latitude: str | None = None,
+    longitude: str | None = None,
+    vertical: str | None = None,
+    time: str | None = None,
 ) -> xr.Dataset:
     """The accelerations a rotating frame and turning local axes add, term by term.
 
@@ -145,7 +150,7 @@ def apparent_accelerations(
         Gridded, station or trajectory data with velocities relative to the
         rotating frame (found as by :func:`frameshift.to_inertial`) and
         latitude; longitude too, though only an off-axis dΩ/dt uses it.
-    frame : Planet, default EARTH
+    frame : Frame, default EARTH
         The rotating frame. Its rotation vector must lie on the body's z axis.
     terms : str or iterable of str, optional
         A subset of ``"coriolis"``, ``"centrifugal"``, ``"euler"``,
@@ -159,8 +164,11 @@ def apparent_accelerations(
         (u²/(N+h) + v²/(M+h)) are dropped; the upward components of these
         two terms are then zero. The radii (N + h, M + h) are kept exact,
         and the centrifugal and Euler terms are unchanged.
-    velocity : mapping, optional
-        ``{"eastward": name, "northward": name, "upward": name}`` (upward optional, else 0).
+    velocity : mapping or list of mappings, optional
+        ``{"eastward": name, "northward": name, "upward": name}`` (upward optional,
+        else 0); a list names several sets. Default: every set found by standard
+        name; with several sets each output name gains the set's family (or its
+        eastward variable's name) as a suffix: ``coriolis_eastward_wind``.
     height : float, str or DataArray, optional
         Height above the ellipsoid overriding what the Dataset holds.
     include_parameters : bool, default False
@@ -172,6 +180,8 @@ def apparent_accelerations(
         body), ``"without_centrifugal"`` (``total_without_centrifugal_<component>``,
         for users who fold the centrifugal term into an effective gravity and
         would otherwise count it twice), both, or ``()`` for none.
+    latitude, longitude, vertical, time : str, optional
+        Name coordinates the file does not mark, or resolve a choice it leaves open.
 
     Returns
     -------
@@ -204,15 +214,51 @@ def apparent_accelerations(
     -0.001031261
     """
     require_dataset(ds)
-    check_frame(frame)
+    check_frame(frame, Ellipsoid)
     chosen = _check_terms(terms)
     sums = _check_totals(totals)
     traditional = bool(traditional)
-    layout = _layout(ds, velocity, height)
-    vset = layout.velocity
+    layout = _layout(ds, velocity, height, latitude, longitude, vertical, time)
+    tags = _set_tags(layout)
+    variables: dict[str, xr.Variable] = {}
+    coords: dict = {}
+    parameters: dict = {}
+    for vset, tag in zip(layout.sets, tags, strict=True):
+        east = ds[vset.eastward]
+        omega, found = _one_set(ds, frame, vset, chosen, traditional, tag, sums)
+        variables.update(found)
+        coords.update({k: v.variable for k, v in east.coords.items()})
+        if include_parameters and vset.position.latitude not in parameters:
+            parameters[vset.position.latitude] = _parameters(
+                ds, vset.position.latitude, frame, omega
+            )
+    out = xr.Dataset(variables, coords=coords, attrs=dict(ds.attrs))
+    several = len(parameters) > 1
+    for lat_name, params in parameters.items():
+        out = out.assign({(f"{k}_{lat_name}" if several else k): v for k, v in params.items()})
+    converted = [list(s.names()) for s in layout.sets]
+    listing = converted[0] if len(converted) == 1 else converted
+    op = (
+        f"apparent_accelerations(terms={list(chosen)}, traditional={traditional}, "
+        f"totals={list(sums)}, frame={frame.name!r}) from {listing}"
+    )
+    return stamp(out, op)
+
+
+def _set_tags(layout: Layout) -> list[str]:
+    """Suffixes of each set's output names: none for one set, else its family or name."""
+    if len(layout.sets) == 1:
+        return [""]
+    families = [s.family for s in layout.sets]
+    return [
+        "_" + (s.family if families.count(s.family) == 1 else s.eastward) for s in layout.sets
+    ]
+
+
+def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag, sums):
     east = ds[vset.eastward]
     dims = tuple(east.dims)
-    h = height_in_metres(ds, layout, height)
+    h = height_values(ds, vset.position)
     extra = set(h.dims) - set(dims)
     if extra:
         raise MissingInputError(
@@ -222,21 +268,22 @@ def apparent_accelerations(
             expected=f"height on dimensions within {dims}",
             found=str(h.dims),
         )
-    omega, rates, lon_needed = _rotation_values(ds, frame, layout.time)
+    omega, rates, lon_needed = _rotation_values(ds, frame, vset.position)
+    lat, lon = position_values(ds, vset.position)
 
     # the velocity first: apply_ufunc orders the work dimensions as its inputs come,
     # so the kernel sees the velocity (and writes its outputs) in memory order
     names = ["u", "v", "lat_deg", "h", "omega", "omega_rate_x", "omega_rate_y", "omega_rate_z"]
-    inputs = [_plain(east), _plain(ds[vset.northward]), _plain(ds[layout.latitude]), h, omega]
+    inputs = [plain(east), plain(ds[vset.northward]), lat, h, omega]
     inputs += list(rates)
-    scales = [_scale(ds, vset.eastward), _scale(ds, vset.northward), 1.0]
+    scales = [vset.component("eastward").to_si, vset.component("northward").to_si, 1.0]
     if vset.upward is not None:
         names.append("w")
-        inputs.append(_plain(ds[vset.upward]))
-        scales[2] = _scale(ds, vset.upward)
+        inputs.append(plain(ds[vset.upward]))
+        scales[2] = vset.component("upward").to_si
     if lon_needed and "euler" in chosen:
         names.append("lon_deg")
-        inputs.append(_plain(ds[layout.longitude]))
+        inputs.append(lon)
     outputs = ak.output_names(chosen, sums)
     results = apply_kernel(
         ak.accelerations_named,
@@ -244,32 +291,24 @@ def apparent_accelerations(
         output_core_dims=[()] * len(outputs),
         kwargs={
             "names": tuple(names),
-            "a": frame.equatorial_radius,
-            "f": frame.flattening,
+            **frame.figure.kernel_geometry(),
             "scale": tuple(scales),
             "terms": chosen,
             "traditional": traditional,
             "totals": sums,
         },
     )
-    common = _common_attrs(ds, layout, frame)
+    common = _common_attrs(ds, vset, frame)
     variables = {}
     for name, data in zip(outputs, results, strict=True):
         term, comp = name.rsplit("_", 1)
         attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
         data = data.variable  # in the velocity's dimension order, with one transpose
-        variables[name] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
-    out = xr.Dataset(variables, coords=east.coords, attrs=dict(ds.attrs))
-    if include_parameters:
-        out = out.assign(_parameters(ds, layout.latitude, frame, omega))
-    op = (
-        f"apparent_accelerations(terms={list(chosen)}, traditional={traditional}, "
-        f"totals={list(sums)}, frame={frame.name!r}) from {list(vset.names())}"
-    )
-    return stamp(out, op)
+        variables[name + tag] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
+    return omega, variables
 
 
-def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) -> xr.Dataset:
+def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Frame = EARTH) -> xr.Dataset:
     """The Coriolis parameter f = 2Ω sin φ and the reciprocal parameter 2Ω cos φ.
 
     Parameters
@@ -277,7 +316,7 @@ def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) ->
     ds : xarray.Dataset or xarray.DataArray
         Holds a latitude (standard name ``latitude`` or units ``degrees_north``);
         a DataArray is taken as the latitude itself if it carries that metadata.
-    frame : Planet, default EARTH
+    frame : Frame, default EARTH
 
     Returns
     -------
@@ -294,13 +333,13 @@ def coriolis_parameters(ds: xr.Dataset | xr.DataArray, frame: Planet = EARTH) ->
     >>> round(float(f[0]), 10)  # 2 Ω sin 45°, Ω of WGS 84
     0.0001031261
     """
-    check_frame(frame)
+    check_frame(frame, Ellipsoid)
     if isinstance(ds, xr.DataArray):
         ds = ds.to_dataset(name=ds.name if ds.name is not None else "latitude")
     require_dataset(ds)
-    lat_name = _degrees(ds, "latitude")
-    layout_time = find_time(ds, tuple(ds[lat_name].dims)) if not frame.steady else None
-    omega, _, _ = _rotation_values(ds, frame, layout_time)
+    lat_name = find_dataset_axis(ds, "latitude")
+    time_name = find_time(ds, lat_name) if not frame.steady else None
+    omega, _, _ = _rotation_values(ds, frame, Position("geodetic", time=time_name))
     out = xr.Dataset(_parameters(ds, lat_name, frame, omega), attrs=dict(ds.attrs))
     return stamp(out, f"coriolis_parameters(frame={frame.name!r}) from {lat_name!r}")
 
@@ -337,9 +376,10 @@ def _check_totals(totals: str | Iterable[str] | None) -> tuple[str, ...]:
     return tuple(t for t in TOTALS if t in asked)
 
 
-def _layout(ds: xr.Dataset, velocity, height) -> Layout:
+def _layout(ds: xr.Dataset, velocity, height, latitude, longitude, vertical, time) -> Layout:
     try:
-        return find_layout(ds, velocity, height=height, target=INERTIAL)
+        return read_layout(ds, velocity, latitude=latitude, longitude=longitude,
+                           vertical=vertical, time=time, height=height, target=INERTIAL)
     except FrameError as exc:
         raise FrameError(
             f"apparent accelerations need velocities relative to the rotating frame; "
@@ -351,20 +391,16 @@ def _layout(ds: xr.Dataset, velocity, height) -> Layout:
         ) from exc
 
 
-def _scale(ds: xr.Dataset, name: str) -> float:
-    return scale_to(parse_units(name, ds[name].attrs.get("units"), "speed"), "m s-1")
-
-
-def _rotation_values(ds: xr.Dataset, frame: Planet, time_name: str | None):
+def _rotation_values(ds: xr.Dataset, frame: Frame, position: Position):
     """Axial rate Ω and dΩ/dt (three body-axis components) as DataArrays.
 
     A steady frame is evaluated once (at J2000.0): its values hold at every
     time. An unsteady one needs the Dataset's time, taken as UT1 = UTC.
     """
     if frame.steady:
-        jd1, jd2, dims, shape = np.array([J2000]), np.array([0.0]), (), ()
+        t, dims, shape = Instants.from_julian(np.array([2451545.0])), (), ()
     else:
-        if time_name is None:
+        if position.time is None:
             raise MissingInputError(
                 f"frame {frame.name!r} changes its rotation in time; the Dataset needs a "
                 "decoded time coordinate (datetime64 or cftime)",
@@ -372,11 +408,10 @@ def _rotation_values(ds: xr.Dataset, frame: Planet, time_name: str | None):
                 expected="a time coordinate",
                 found="none",
             )
-        t = ds[time_name]
-        jd1, jd2 = julian_date_parts(np.asarray(t.values).ravel(), time_name)
-        dims, shape = t.dims, t.shape
-    vector = np.asarray(frame.rotation_vector(jd1, jd2), dtype=np.float64)
-    rate = np.asarray(frame.rotation_vector_rate(jd1, jd2), dtype=np.float64)
+        time_var, t = time_instants(ds, position)
+        dims, shape = time_var.dims, time_var.shape
+    vector = np.asarray(frame.rotation_vector(t), dtype=np.float64)
+    rate = np.asarray(frame.rotation_vector_rate(t), dtype=np.float64)
     if np.any(vector[..., :2] != 0.0):
         raise UnsupportedInputError(
             f"frame {frame.name!r} has a rotation vector off its z axis (polar motion); "
@@ -395,8 +430,7 @@ def _rotation_values(ds: xr.Dataset, frame: Planet, time_name: str | None):
     return omega, rates, off_axis
 
 
-def _common_attrs(ds: xr.Dataset, layout: Layout, frame: Planet) -> dict:
-    vset = layout.velocity
+def _common_attrs(ds: xr.Dataset, vset: VelocitySet, frame: Frame) -> dict:
     attrs = {
         "units": "m s-2",
         "reference_frame": ROTATING,
@@ -411,8 +445,8 @@ def _common_attrs(ds: xr.Dataset, layout: Layout, frame: Planet) -> dict:
             "the velocity components have different cell_methods "
             f"({'; '.join(sorted(methods))}); none is carried over"
         )
-    if layout.notes:
-        attrs["assumptions"] = "; ".join(layout.notes)
+    if vset.notes:
+        attrs["assumptions"] = "; ".join(vset.notes)
     return attrs
 
 
@@ -454,11 +488,11 @@ def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
     return attrs
 
 
-def _parameters(ds: xr.Dataset, lat_name: str, frame: Planet, omega: xr.DataArray) -> dict:
+def _parameters(ds: xr.Dataset, lat_name: str, frame: Frame, omega: xr.DataArray) -> dict:
     lat = ds[lat_name]
     f, reciprocal = apply_kernel(
         ak.coriolis_parameters,
-        _plain(lat),
+        plain(lat).astype(np.float64),
         omega,
         output_core_dims=[(), ()],
         dims_order=tuple(lat.dims),

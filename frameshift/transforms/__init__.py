@@ -1,0 +1,160 @@
+"""Rotating <-> inertial velocity transforms on xarray Datasets.
+
+:func:`to_inertial` and :func:`to_rotating` read the Dataset once
+(:func:`frameshift.detect.read_layout`) and convert every velocity set it
+holds, on local east/north/up axes (:mod:`frameshift.transforms.local`) or
+to inertial x/y/z position and velocity
+(:mod:`frameshift.transforms.cartesian`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+
+import xarray as xr
+
+from frameshift.detect import INERTIAL, ROTATING, read_layout, require_dataset
+from frameshift.errors import ConventionError, check_choice
+from frameshift.frames import EARTH, Ellipsoid, Frame, check_frame
+from frameshift.frames.celestial import CELESTIAL_AXES
+from frameshift.transforms.cartesian import from_cartesian, to_cartesian
+from frameshift.transforms.local import convert_local
+
+__all__ = ["BASES", "to_inertial", "to_rotating"]
+
+BASES = ("local", "cartesian")
+
+def to_inertial(
+    ds: xr.Dataset,
+    frame: Frame = EARTH,
+    *,
+    basis: str = "local",
+    velocity: Mapping[str, str] | list[Mapping[str, str]] | None = None,
+    height: object = None,
+    celestial: str = "cirs",
+    dut1: float | xr.DataArray = 0.0,
+    latitude: str | None = None,
+    longitude: str | None = None,
+    vertical: str | None = None,
+    time: str | None = None,
+) -> xr.Dataset:
+    """Velocities relative to a rotating body, seen from the inertial frame.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        Earth-relative (body-relative) velocities with CF metadata: components
+        found by standard name (``eastward_wind``, ``northward_sea_water_velocity``...)
+        or named with ``velocity=``; latitude/longitude by standard name or units;
+        vertical position from ``height_above_reference_ellipsoid``, ``altitude``,
+        ``height``, ``depth`` (positive down) or ``geopotential_height``.
+    frame : Frame, default EARTH
+        The rotating frame the velocities are relative to.
+    basis : {"local", "cartesian"}
+        ``"local"``: same Dataset, velocity variables now relative to the
+        inertial frame on the same local east/north/up axes at the same instant
+        (only the eastward component changes, by Ω (N + h) cos φ).
+        ``"cartesian"``: variables ``position`` (m) and ``velocity`` (m s-1)
+        on inertial x, y, z axes (dimension ``component``); needs time.
+    velocity : mapping or list of mappings, optional
+        ``{"eastward": name, "northward": name, "upward": name}``; upward optional
+        (taken as 0, and said so in the attributes). A list of such mappings
+        names several sets. Default: every set found by standard name (winds
+        and currents in one file are all converted).
+    height : float, str or DataArray, optional
+        Height above the reference ellipsoid (m) overriding what the Dataset holds.
+    latitude, longitude, vertical, time : str, optional
+        Name the coordinate to use where the file carries no CF attributes for
+        it or leaves a choice open; otherwise each velocity's ``coordinates``
+        attribute decides.
+    celestial : {"cirs", "gcrs"}
+        Inertial axes for ``basis="cartesian"``: rotation angle only (CIRS) or
+        with precession-nutation (GCRS, IAU 2006/2000A, needs pyerfa).
+    dut1 : float or DataArray over time
+        UT1 - UTC in seconds, for ``basis="cartesian"``.
+
+    Returns
+    -------
+    xarray.Dataset
+
+    Examples
+    --------
+    >>> import xarray as xr, frameshift
+    >>> ds = xr.Dataset(
+    ...     {"u": ("lat", [0.0], {"standard_name": "eastward_wind", "units": "m s-1"}),
+    ...      "v": ("lat", [0.0], {"standard_name": "northward_wind", "units": "m s-1"})},
+    ...     coords={"lat": ("lat", [0.0], {"units": "degrees_north"}),
+    ...             "lon": ((), 0.0, {"units": "degrees_east"})})
+    >>> round(float(frameshift.to_inertial(ds)["u"][0]), 4)
+    465.1011
+    """
+    return _convert(ds, frame, INERTIAL, basis, velocity, height, celestial, dut1,
+                    latitude, longitude, vertical, time)
+
+
+def to_rotating(
+    ds: xr.Dataset,
+    frame: Frame = EARTH,
+    *,
+    basis: str = "local",
+    velocity: Mapping[str, str] | list[Mapping[str, str]] | None = None,
+    height: object = None,
+    celestial: str = "cirs",
+    dut1: float | xr.DataArray = 0.0,
+    latitude: str | None = None,
+    longitude: str | None = None,
+    vertical: str | None = None,
+    time: str | None = None,
+) -> xr.Dataset:
+    """Inertial velocities back to velocities relative to the rotating body.
+
+    The inverse of :func:`to_inertial`, with the same keywords. With
+    ``basis="local"`` the Dataset holds inertial velocities on local axes
+    (as :func:`to_inertial` writes them). With ``basis="cartesian"`` it holds
+    ``position`` and ``velocity`` on inertial axes with a time coordinate; the
+    result then has data variables ``latitude``, ``longitude`` (degrees),
+    ``height`` (m above the ellipsoid) and the east/north/up velocity
+    components, named and in the units they had before :func:`to_inertial`
+    when it recorded them (else ``eastward_velocity``... in m s-1). A name
+    already taken in the Dataset gets the suffix ``_from_position``.
+
+    Examples
+    --------
+    >>> import xarray as xr, frameshift
+    >>> ds = xr.Dataset(
+    ...     {"u": ("lat", [10.0], {"standard_name": "eastward_wind", "units": "m s-1"}),
+    ...      "v": ("lat", [0.0], {"standard_name": "northward_wind", "units": "m s-1"})},
+    ...     coords={"lat": ("lat", [45.0], {"units": "degrees_north"}),
+    ...             "lon": ((), 0.0, {"units": "degrees_east"})})
+    >>> back = frameshift.to_rotating(frameshift.to_inertial(ds))
+    >>> round(float(back["u"][0]), 9)
+    10.0
+    """
+    return _convert(ds, frame, ROTATING, basis, velocity, height, celestial, dut1,
+                    latitude, longitude, vertical, time)
+
+
+def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
+             latitude, longitude, vertical, time) -> xr.Dataset:
+    require_dataset(ds)
+    check_choice("basis", basis, BASES)
+    check_choice("celestial", celestial, CELESTIAL_AXES)
+    check_frame(frame, Ellipsoid)
+    if target == ROTATING and basis == "cartesian":
+        given = {"velocity": velocity, "height": height, "latitude": latitude,
+                 "longitude": longitude, "vertical": vertical}
+        named = [k for k, v in given.items() if v is not None]
+        if named:
+            raise ConventionError(
+                "to_rotating(basis='cartesian') reads the inertial position and velocity; "
+                f"{named[0]}= does not apply",
+                variable=named[0],
+                expected="None",
+                found="a value",
+            )
+        return from_cartesian(ds, frame, celestial, dut1)
+    layout = read_layout(ds, velocity, latitude=latitude, longitude=longitude,
+                         vertical=vertical, time=time, height=height, target=target)
+    if basis == "local":
+        return convert_local(ds, frame, target, layout)
+    return to_cartesian(ds, frame, layout, celestial, dut1)
