@@ -8,6 +8,7 @@ attribute here, works out one scale factor to SI, and hands bare floats on.
 from __future__ import annotations
 
 import functools
+import math
 import re
 
 import pint
@@ -126,6 +127,8 @@ def _parse(text: str) -> pint.Unit:
     # writes one for units UDUNITS-2 cannot name): a unit of its own in the registry
     quantity = ureg.Quantity(text)
     factor = float(quantity.magnitude)
+    if not math.isfinite(factor) or factor == 0.0:
+        raise ValueError(f"unit text {text!r} has a factor that is not a finite, non-zero number")
     name = "scaled_" + re.sub(r"\W", "_", f"{factor!r}_{quantity.units}")
     if name not in ureg:
         ureg.define(f"{name} = {factor!r} * {quantity.units}")
