@@ -11,11 +11,13 @@ The policy, variable by variable (:func:`plan_output`):
 * **computed**: new values, always computed in float64, are stored in the
   precision of the input they were made from (``precision="input"``: float32
   from float32 or from integers of 16 bits or fewer, packed or not; float64
-  otherwise) or in float64 (``precision="float64"``); never re-packed; zlib
-  level 1 with shuffle (fast; higher levels cost several times the time for
-  a few per cent of size); ``_FillValue``/``missing_value`` as the input
-  variable had them (the same attribute names and numbers, in the new type,
-  or none if it had none).
+  otherwise) or in float64 (``precision="float64"``); never re-packed;
+  compressed with zlib level 1 and shuffle (fast; higher levels cost several
+  times the time for a few per cent of size), except a converted variable
+  whose input was stored uncompressed, which stays so (as compact and as
+  quick to write as its input); ``_FillValue``/``missing_value`` as the
+  input variable had them (the same attribute names and numbers, in the new
+  type, or none if it had none).
 
 Coordinates never get a ``_FillValue`` (CF 1.11 §2.5.1). A string
 ``component`` coordinate (the Cartesian axes ``x``, ``y``, ``z``) is stored
@@ -218,7 +220,8 @@ def plan_output(
             else:
                 origin = [source.variables[n] for n in
                           ([name] if old is not None else _sources(var, source, consumed))]
-                new.encoding = _computed_encoding(var, origin, precision, target)
+                new.encoding = _computed_encoding(var, origin, precision, target,
+                                                  converted=old is not None)
                 if "dtype" in new.encoding and not is_coord:
                     new.attrs = {**new.attrs, "storage_precision": _precision_note(
                         new.encoding["dtype"], precision)}
@@ -261,7 +264,7 @@ def _storage(encoding: Mapping, target: str) -> dict:
 
 
 def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: str,
-                       target: str) -> dict:
+                       target: str, *, converted: bool = False) -> dict:
     if var.dtype.kind != "f":
         return {}
     if precision == "float64" or not origin:
@@ -279,10 +282,18 @@ def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: s
         block = [c[0] for c in var.chunks] if var.chunks else list(var.shape)
         shape = disk_chunks(block, dtype.itemsize)
         if target == "netcdf":
-            enc.update(zlib=True, complevel=COMPLEVEL, shuffle=True, chunksizes=shape)
+            enc["chunksizes"] = shape
+            if not converted or _was_compressed(origin[0].encoding):
+                enc.update(zlib=True, complevel=COMPLEVEL, shuffle=True)
         else:
             enc["chunks"] = tuple(block)
     return enc
+
+
+def _was_compressed(encoding: Mapping) -> bool:
+    """Whether a variable was stored compressed (NetCDF zlib or other filters, Zarr codecs)."""
+    return bool(encoding.get("zlib") or encoding.get("compression")
+                or encoding.get("compressors") or encoding.get("compressor"))
 
 
 def _precision_note(dtype: np.dtype, precision: str) -> str:

@@ -197,10 +197,14 @@ def test_computed_variables_follow_the_input_precision(layout, stored, precision
     plan, how = plan_output(out, src, precision=precision)
     assert how["ua"] == "computed" and how["ta"] == "copied"
     assert plan["ua"].encoding["dtype"] == expected
-    assert plan["ua"].encoding["zlib"] and plan["ua"].encoding["complevel"] == 1
+    # the input held uncompressed: the converted variable stays so (as compact as its input)
+    assert "zlib" not in plan["ua"].encoding
     terms = frameshift.apparent_accelerations(src)
     plan, _ = plan_output(terms, src, precision=precision)
     assert plan["total_eastward"].encoding["dtype"] == expected  # from velocity_variables
+    # new variables are compressed, at the fast level
+    assert plan["total_eastward"].encoding["zlib"]
+    assert plan["total_eastward"].encoding["complevel"] == 1
 
 
 @eager_and_chunked
@@ -230,3 +234,13 @@ def test_stored_precision_reads_the_encoding():
     assert stored_precision(v) == np.float32
     v.encoding = {}
     assert stored_precision(v) == np.float64
+
+
+@eager_and_chunked
+def test_compressed_input_gives_compressed_output(layout):
+    import frameshift
+
+    src = as_layout(_with_encoding(grid_dataset(), dtype=np.dtype("float32"), zlib=True,
+                                   complevel=6), layout)
+    plan, _ = plan_output(frameshift.to_inertial(src), src)
+    assert plan["ua"].encoding["zlib"] and plan["ua"].encoding["complevel"] == 1
