@@ -27,6 +27,7 @@ import xarray as xr
 from frameshift import io
 from frameshift.cf import set_conventions
 from frameshift.errors import ConventionError, FrameshiftError, MissingInputError, check_choice
+from frameshift.storage import output_format, with_format_suffix
 
 __all__ = [
     "OPERATIONS",
@@ -38,14 +39,11 @@ __all__ = [
     "compute_context",
     "convert_operation",
     "find_inputs",
-    "is_cartesian",
-    "output_format",
     "plan_jobs",
     "process",
     "register_operation",
     "run",
     "terms_operation",
-    "with_format_suffix",
 ]
 
 _HAS_MAGIC = set("*?[")
@@ -101,14 +99,15 @@ def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     from frameshift.transforms import to_inertial, to_rotating
 
     s = dict(settings)
+    from frameshift.transforms.cartesian import DUT1_ATTR, is_cartesian, recorded
+
     if s.get("basis") == "auto":  # what the file says it holds
         s["basis"] = "cartesian" if is_cartesian(ds) else "local"
     if s.get("celestial", "cirs") is None:  # the axes a Cartesian file records
-        s["celestial"] = _recorded(ds, "inertial_axes", "cirs").lower() if to == "rotating" \
+        s["celestial"] = recorded(ds, "inertial_axes", "cirs").lower() if to == "rotating" \
             else "cirs"
     if s.get("dut1", 0.0) is None:  # the UT1 - UTC a Cartesian file was made with
-        s["dut1"] = float(_recorded(ds, "ut1_minus_utc_seconds", 0.0)) if to == "rotating" \
-            else 0.0
+        s["dut1"] = float(recorded(ds, DUT1_ATTR, 0.0)) if to == "rotating" else 0.0
     if s.get("basis") == "local":
         s.pop("celestial", None)
         s.pop("dut1", None)
@@ -131,35 +130,6 @@ def _terms(ds: xr.Dataset, *, keep_input: bool = False, **settings) -> xr.Datase
             )
         return ds.assign(dict(result.data_vars)).assign_attrs(attrs)
     return result.assign_attrs(attrs)
-
-
-def is_cartesian(ds: xr.Dataset) -> bool:
-    """Whether ``ds`` holds inertial positions and velocities on a ``component`` axis (as
-    ``--basis cartesian`` writes them).
-
-    Examples
-    --------
-    >>> import xarray as xr
-    >>> is_cartesian(xr.Dataset())
-    False
-    """
-    from frameshift.transforms.cartesian import cartesian_pairs
-
-    return bool(cartesian_pairs(ds))
-
-
-def _recorded(ds: xr.Dataset, key: str, default: object) -> object:
-    """What the (first) Cartesian velocity of ``ds`` records under ``key``."""
-    from frameshift.transforms.cartesian import cartesian_pairs
-
-    for _, name in cartesian_pairs(ds):
-        value = ds[name].attrs.get(key)
-        if value is not None:
-            try:
-                return type(default)(value) if not isinstance(default, str) else str(value)
-            except (TypeError, ValueError):
-                return default
-    return default
 
 
 register_operation("convert", _convert)
@@ -593,31 +563,6 @@ def process(
         return Outcome(job, "failed", f"{type(exc).__name__}: {_one_line(exc)}",
                        seconds=time.perf_counter() - start)
     return Outcome(job, "written", seconds=time.perf_counter() - start, sets=sets)
-
-
-def output_format(path: str | os.PathLike, asked: str | None = None) -> str:
-    """``asked`` if given, else ``"zarr"`` for a ``*.zarr`` output and ``"netcdf"`` otherwise.
-
-    Examples
-    --------
-    >>> output_format("out/a.zarr"), output_format("out/a.nc"), output_format("a.nc", "zarr")
-    ('zarr', 'netcdf', 'zarr')
-    """
-    if asked is not None:
-        return check_choice("format", asked, ("netcdf", "zarr"))
-    return "zarr" if Path(path).suffix.lower() == ".zarr" else "netcdf"
-
-
-def with_format_suffix(path: Path, fmt: str) -> Path:
-    """The output path with the suffix of its format (``.zarr`` or ``.nc``).
-
-    Examples
-    --------
-    >>> with_format_suffix(Path("out/a.nc"), "zarr").name
-    'a.zarr'
-    """
-    suffix = ".zarr" if fmt == "zarr" else ".nc"
-    return path if path.suffix.lower() == suffix else path.with_suffix(suffix)
 
 
 def _one_line(exc: BaseException) -> str:

@@ -29,7 +29,9 @@ from __future__ import annotations
 
 import json
 import math
+import os
 from collections.abc import Mapping, Sequence
+from pathlib import Path
 
 import numpy as np
 import xarray as xr
@@ -44,8 +46,10 @@ __all__ = [
     "disk_chunks",
     "encode_labels",
     "largest_divisor",
+    "output_format",
     "plan_output",
     "stored_precision",
+    "with_format_suffix",
 ]
 
 #: Storage precisions of computed variables: the input's, or always float64.
@@ -351,6 +355,31 @@ def largest_divisor(n: int, at_most: int) -> int:
         if n % d == 0:
             return d
     return 1
+
+
+def output_format(path: str | os.PathLike, asked: str | None = None) -> str:
+    """``asked`` if given, else ``"zarr"`` for a ``*.zarr`` output and ``"netcdf"`` otherwise.
+
+    Examples
+    --------
+    >>> output_format("out/a.zarr"), output_format("out/a.nc"), output_format("a.nc", "zarr")
+    ('zarr', 'netcdf', 'zarr')
+    """
+    if asked is not None:
+        return check_choice("format", asked, ("netcdf", "zarr"))
+    return "zarr" if Path(path).suffix.lower() == ".zarr" else "netcdf"
+
+
+def with_format_suffix(path: Path, fmt: str) -> Path:
+    """The output path with the suffix of its format (``.zarr`` or ``.nc``).
+
+    Examples
+    --------
+    >>> with_format_suffix(Path("out/a.nc"), "zarr").name
+    'a.zarr'
+    """
+    suffix = ".zarr" if fmt == "zarr" else ".nc"
+    return path if path.suffix.lower() == suffix else path.with_suffix(suffix)
 
 
 def _same_data(new: xr.Variable, old: xr.Variable) -> bool:

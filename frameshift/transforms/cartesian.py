@@ -34,7 +34,7 @@ from frameshift.frames.celestial import body_to_inertial_matrix
 from frameshift.transforms.local import stamped
 from frameshift.units import parse_units, scale_to
 
-__all__ = ["DUT1_ATTR", "STASH", "from_cartesian", "to_cartesian"]
+__all__ = ["DUT1_ATTR", "STASH", "from_cartesian", "is_cartesian", "recorded", "to_cartesian"]
 
 #: attribute of a Cartesian velocity recording the body-relative components it came from
 STASH = "rotating_frame_variables"
@@ -237,6 +237,39 @@ def cartesian_pairs(ds: xr.Dataset) -> list[tuple[str, str]]:
         if "component" in var.dims and (STASH in var.attrs or name == "velocity"):
             pairs.append((str(var.attrs.get("position_variable", "position")), str(name)))
     return pairs
+
+
+def is_cartesian(ds: xr.Dataset) -> bool:
+    """Whether ``ds`` holds inertial positions and velocities on a ``component`` axis (as
+    ``--basis cartesian`` writes them).
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> is_cartesian(xr.Dataset())
+    False
+    """
+    return bool(cartesian_pairs(ds))
+
+
+def recorded(ds: xr.Dataset, key: str, default: object) -> object:
+    """What the (first) Cartesian velocity of ``ds`` records under ``key`` (its
+    ``inertial_axes``, its :data:`DUT1_ATTR`), as the type of ``default``; else ``default``.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> recorded(xr.Dataset(), "inertial_axes", "cirs")
+    'cirs'
+    """
+    for _, name in cartesian_pairs(ds):
+        value = ds[name].attrs.get(key)
+        if value is not None:
+            try:
+                return type(default)(value) if not isinstance(default, str) else str(value)
+            except (TypeError, ValueError):
+                return default
+    return default
 
 
 def from_cartesian(ds: xr.Dataset, frame: Frame, celestial: str, dut1) -> xr.Dataset:
