@@ -96,6 +96,7 @@ def test_cartesian_file_converts_back_as_it_says(tmp_path, capsys):
             assert ds[name].attrs["inertial_axes"] == "GCRS"
             assert ds[name].attrs["ut1_minus_utc_seconds"] == 0.3
             assert "float32" in ds[name].attrs["storage_precision"]
+    assert_cf_clean(cart / "tiny_example.nc")  # IOOS compliance checker, cf:1.11
     assert _run("inspect", cart / "tiny_example.nc", "--json") == 0
     report = json.loads(capsys.readouterr().out)[0]
     assert report["operations"]["convert --to rotating --basis cartesian"] == "ok"

@@ -278,7 +278,15 @@ def test_timeseries_on_every_cf_calendar(tmp_path, mooring, calendar):
     # a terms file written and reopened with a model calendar holds cftime values
     terms = frameshift.apparent_accelerations(mooring.isel(depth=[0, 1]), terms="coriolis")
     terms["time"].encoding = {"units": "hours since 2031-09-01", "calendar": calendar}
+    terms["time"].attrs["units_metadata"] = "leap_seconds: none"
+    terms.attrs.update(title="calendar test", Conventions="CF-1.11")
+    for name in terms.coords:
+        terms[name].encoding["_FillValue"] = None
     terms.to_netcdf(tmp_path / "t.nc")
+    if calendar == "noleap":  # the file is valid CF (IOOS compliance checker, cf:1.11)
+        from tests.test_io import assert_cf_clean
+
+        assert_cf_clean(tmp_path / "t.nc")
     with xr.open_dataset(tmp_path / "t.nc", use_cftime=True) as back:
         fig = plotting.plot_terms_timeseries(back, path=tmp_path / "t.png")
     ax = _axes_titled(fig, "Coriolis, northward")
