@@ -7,8 +7,18 @@ frame adds, on xarray data with units and CF metadata kept.
 
 from frameshift import accessor  # noqa: F401  (registers ds.frameshift)
 from frameshift._version import __version__
+from frameshift.diagnostics import (
+    absolute_vorticity,
+    axial_angular_momentum,
+    excitation,
+    inertial_demodulation,
+    integrate_angular_momentum,
+    rotary_spectrum,
+    track_forces,
+)
 from frameshift.dynamics.accelerations import apparent_accelerations, coriolis_parameters
 from frameshift.dynamics.gravity import normal_gravity
+from frameshift.dynamics.planar import free_surface
 from frameshift.errors import (
     ConventionError,
     FrameError,
@@ -22,12 +32,18 @@ from frameshift.errors import (
 from frameshift.frames import (
     EARTH,
     EARTH_SPHERE,
+    JUPITER,
+    MARS,
+    SATURN,
+    TITAN,
+    VENUS,
     EarthRotationAngle,
     Ellipsoid,
     Frame,
     Plane,
     Planet,
     RateSeries,
+    RotatingTable,
     SteadyRate,
 )
 from frameshift.transforms import to_inertial, to_rotating
@@ -35,6 +51,11 @@ from frameshift.transforms import to_inertial, to_rotating
 __all__ = [
     "EARTH",
     "EARTH_SPHERE",
+    "JUPITER",
+    "MARS",
+    "SATURN",
+    "TITAN",
+    "VENUS",
     "ConventionError",
     "EarthRotationAngle",
     "Ellipsoid",
@@ -47,13 +68,22 @@ __all__ = [
     "Plane",
     "Planet",
     "RateSeries",
+    "RotatingTable",
     "SteadyRate",
     "UnitsError",
     "UnsupportedInputError",
     "__version__",
+    "absolute_vorticity",
     "apparent_accelerations",
+    "axial_angular_momentum",
     "coriolis_parameters",
+    "excitation",
+    "free_surface",
+    "inertial_demodulation",
+    "integrate_angular_momentum",
     "normal_gravity",
+    "rotary_spectrum",
     "to_inertial",
     "to_rotating",
+    "track_forces",
 ]

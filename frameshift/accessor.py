@@ -51,3 +51,45 @@ class FrameshiftAccessor:
         from frameshift.dynamics.gravity import normal_gravity
 
         return normal_gravity(self._ds, *args, **kwargs)
+
+    def axial_angular_momentum(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.axial_angular_momentum`."""
+        from frameshift.diagnostics import axial_angular_momentum
+
+        return axial_angular_momentum(self._ds, *args, **kwargs)
+
+    def integrate_angular_momentum(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.integrate_angular_momentum`."""
+        from frameshift.diagnostics import integrate_angular_momentum
+
+        return integrate_angular_momentum(self._ds, *args, **kwargs)
+
+    def excitation(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.excitation`."""
+        from frameshift.diagnostics import excitation
+
+        return excitation(self._ds, *args, **kwargs)
+
+    def absolute_vorticity(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.absolute_vorticity`."""
+        from frameshift.diagnostics import absolute_vorticity
+
+        return absolute_vorticity(self._ds, *args, **kwargs)
+
+    def rotary_spectrum(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.rotary_spectrum`."""
+        from frameshift.diagnostics import rotary_spectrum
+
+        return rotary_spectrum(self._ds, *args, **kwargs)
+
+    def inertial_demodulation(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.inertial_demodulation`."""
+        from frameshift.diagnostics import inertial_demodulation
+
+        return inertial_demodulation(self._ds, *args, **kwargs)
+
+    def track_forces(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.track_forces`."""
+        from frameshift.diagnostics import track_forces
+
+        return track_forces(self._ds, *args, **kwargs)

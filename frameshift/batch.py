@@ -98,14 +98,16 @@ class Operation:
 def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     from frameshift.transforms import to_inertial, to_rotating
 
-    s = dict(settings)
+    s = _named_frame(ds, dict(settings))
     from frameshift.transforms.cartesian import DUT1_ATTR, is_cartesian, recorded
 
     if s.get("basis") == "auto":  # what the file says it holds
         s["basis"] = "cartesian" if is_cartesian(ds) else "local"
     if s.get("celestial", "cirs") is None:  # the axes a Cartesian file records
         s["celestial"] = recorded(ds, "inertial_axes", "cirs").lower() if to == "rotating" \
-            else "cirs"
+            else None
+        if s["celestial"] is None:
+            s.pop("celestial")  # the frame's own default axes
     if s.get("dut1", 0.0) is None:  # the UT1 - UTC a Cartesian file was made with
         s["dut1"] = float(recorded(ds, DUT1_ATTR, 0.0)) if to == "rotating" else 0.0
     if s.get("basis") == "local":
@@ -114,8 +116,17 @@ def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     return (to_inertial if to == "inertial" else to_rotating)(ds, **s)
 
 
+def _named_frame(ds: xr.Dataset, settings: dict) -> dict:
+    """A frame given by name in the settings (plain data), made for this Dataset."""
+    if isinstance(settings.get("frame"), str):
+        from frameshift.frames.named import frame_from_name
+
+        settings = {**settings, "frame": frame_from_name(settings["frame"], ds)}
+    return settings
+
+
 def _terms(ds: xr.Dataset, *, keep_input: bool = False, **settings) -> xr.Dataset:
-    result = _accelerations()(ds, **settings)
+    result = _accelerations()(ds, **_named_frame(ds, settings))
     attrs = {**ds.attrs, **result.attrs}
     set_conventions(attrs)
     if keep_input:  # the input's variables as they were, the terms beside them
@@ -144,6 +155,7 @@ def convert_operation(
     velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     dut1: float | None = 0.0,
+    frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
@@ -152,6 +164,8 @@ def convert_operation(
     velocities on a ``component`` axis, or local components); ``celestial=None``
     and ``dut1=None`` take the inertial axes (``inertial_axes``) and the UT1 - UTC
     (``ut1_minus_utc_seconds``) a Cartesian file records when converting back.
+    ``frame`` names the frame (:func:`frameshift.frames.named.frame_from_name`:
+    ``"mars"``, ``"table:10 rpm"``, ``"table:<rate variable>"``...); default the Earth.
 
     Examples
     --------
@@ -161,10 +175,14 @@ def convert_operation(
     check_choice("to", to, ("inertial", "rotating"))
     check_choice("basis", basis, ("local", "cartesian", "auto"))
     if celestial is not None:
-        check_choice("celestial", celestial, ("cirs", "gcrs"))
+        from frameshift.frames.celestial import CELESTIAL_AXES
+
+        check_choice("celestial", celestial, CELESTIAL_AXES)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
                 "height": height, "dut1": None if dut1 is None else float(dut1),
                 **_coordinate_settings(coordinates)}
+    if frame is not None:
+        settings["frame"] = str(frame)
     return Operation("convert", settings)
 
 
@@ -177,12 +195,14 @@ def terms_operation(
     include_parameters: bool = False,
     totals: Sequence[str] = ("full",),
     keep_input: bool = False,
+    frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
 
     ``keep_input=True`` writes the input's variables, as they were, beside the
-    terms, so that a budget needs one file.
+    terms, so that a budget needs one file. ``frame`` names the frame as for
+    :func:`convert_operation`.
 
     Examples
     --------
@@ -193,6 +213,8 @@ def terms_operation(
                 "velocity": _mapping(velocity), "height": height,
                 "include_parameters": bool(include_parameters), "totals": list(totals),
                 "keep_input": bool(keep_input), **_coordinate_settings(coordinates)}
+    if frame is not None:
+        settings["frame"] = str(frame)
     return Operation("terms", settings)
 
 

@@ -271,6 +271,10 @@ def build_parser() -> argparse.ArgumentParser:
                        "reciprocal_coriolis_parameter (2 Omega cos(lat))")
     _velocity_options(terms)
 
+    from frameshift.diagnostics import command as diagnostics_command
+
+    diagnostics_command.add_parser(sub, _common)
+
     insp = sub.add_parser("inspect", help="show what frameshift finds in files",
                           description="Report the velocity variables, units, positions, "
                           "vertical coordinate, time and frame frameshift detects, and which "
@@ -366,6 +370,10 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
             args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
             height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
         )
+    elif args.command == "momentum":
+        from frameshift.diagnostics.command import operation_from_args
+
+        operation = operation_from_args(args)
     else:
         operation = batch.terms_operation(
             args.terms, traditional=args.traditional, velocity=args.velocity,
@@ -426,7 +434,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     check_usage(parser, args)
     command = shlex.join(["frameshift", *args_list])
     try:
-        if args.command in ("convert", "terms"):
+        if args.command in ("convert", "terms", "momentum"):
             return _run_batch(args, command)
         if args.command == "inspect":
             from frameshift.report import inspect_files

@@ -8,7 +8,11 @@ and the apparent-acceleration terms, each written as CF NetCDF under
 written (read back from disk) into ``<out>/figures/``, and a table gives,
 per data set, the size of each term, the largest inertial speed and the
 files written. The Cartesian conversion of ``packed_knots.nc`` is refused by
-design: its model calendar (``noleap``) has no real time. The data are
+design: its model calendar (``noleap``) has no real time. The two examples
+in ``data_demo/examples/`` take other frames (:data:`EXAMPLE_FRAMES`): a tank
+on a rotating table spun up as the file's ``table_rate`` says (its Cartesian
+step refused by design: a table's fields stay on its x/y axes) and
+cloud-tracked winds on a planet turning as Venus does. The data are
 invented; see ``data_demo/README.md``.
 """
 
@@ -32,6 +36,7 @@ from frameshift import batch
 from frameshift.errors import MissingInputError
 
 __all__ = [
+    "EXAMPLE_FRAMES",
     "FIGURES",
     "STEPS",
     "TERMS",
@@ -39,6 +44,7 @@ __all__ = [
     "DemoFigure",
     "DemoReport",
     "DemoRow",
+    "demo_files",
     "find_demo_data",
     "format_value",
     "run",
@@ -46,20 +52,27 @@ __all__ = [
 
 #: The conversion steps: output folder and what the step does.
 STEPS = (
-    ("inertial_local", "Earth-rotating -> inertial frame, local east/north/up axes"),
-    ("inertial_cartesian", "Earth-rotating -> inertial frame, Cartesian x/y/z axes (CIRS)"),
+    ("inertial_local", "rotating -> inertial frame, local east/north/up axes (a table: x/y)"),
+    ("inertial_cartesian", "rotating -> inertial frame, Cartesian x/y/z axes (CIRS; POLE)"),
     ("terms", "apparent-acceleration terms"),
 )
 
 #: The terms summarised in the table, in the order they are printed.
 TERMS = ("coriolis", "centrifugal", "euler", "curvature", "total")
 
-#: Components to use where a demo file holds more than one velocity set.
-_VELOCITY = {"packed_knots.nc": {"eastward": "wspd_u", "northward": "wspd_v"}}
+#: Components to use where a demo file holds more than one velocity set (or lab axes).
+_VELOCITY = {"packed_knots.nc": {"eastward": "wspd_u", "northward": "wspd_v"},
+             "tank_spinup.nc": {"x": "u", "y": "v"}}
+
+#: The frame of each example in data_demo/examples/ (by name, see frames.named); the
+#: other demo files are relative to the Earth.
+EXAMPLE_FRAMES = {"tank_spinup.nc": "table:table_rate", "cloud_winds.nc": "venus"}
 
 #: Steps refused by design, and the (variable, found) of the refusal: the ``noleap``
 #: calendar has no real time, which Cartesian axes need. Any other failure is a failure.
-_REFUSED_BY_DESIGN = {("packed_knots.nc", "inertial_cartesian"): ("time", "noleap")}
+_REFUSED_BY_DESIGN = {("packed_knots.nc", "inertial_cartesian"): ("time", "noleap"),
+                      # a lab table's fields stay on its x/y axes: no Cartesian basis
+                      ("tank_spinup.nc", "inertial_cartesian"): ("basis", "'cartesian'")}
 
 _INSTALL_HINT = "pip install 'frameshift[plot]'"
 
@@ -189,16 +202,30 @@ def format_value(value: float | None, kind: str) -> str:
 
 def _operation(step: str, name: str) -> batch.Operation:
     velocity = _VELOCITY.get(name)
+    frame = EXAMPLE_FRAMES.get(name)
     if step == "inertial_local":
-        return batch.convert_operation("inertial", velocity=velocity)
+        return batch.convert_operation("inertial", velocity=velocity, frame=frame)
     if step == "inertial_cartesian":
-        return batch.convert_operation("inertial", basis="cartesian", velocity=velocity)
-    return batch.terms_operation(velocity=velocity, totals=("full", "without_centrifugal"))
+        return batch.convert_operation("inertial", basis="cartesian", velocity=velocity,
+                                       frame=frame)
+    return batch.terms_operation(velocity=velocity, frame=frame,
+                                 totals=("full", "without_centrifugal"))
 
 
 #: The terms the demo's figures draw: those that carry dynamics. The centrifugal term
 #: (a steady, latitude-only pull counted in effective gravity) would fill the total.
 DYNAMIC_TERMS = ("coriolis", "curvature", "total_without_centrifugal")
+
+
+def demo_files(data: Path) -> list[Path]:
+    """The demo's files: the Earth data sets, then the frame examples (``examples/``).
+
+    Examples
+    --------
+    >>> [p.name for p in demo_files(find_demo_data())][-2:]
+    ['cloud_winds.nc', 'tank_spinup.nc']
+    """
+    return sorted(data.glob("*.nc")) + sorted((data / "examples").glob("*.nc"))
 
 
 def run(
@@ -236,7 +263,7 @@ def run(
     out_dir = Path(out_dir)
     say = _Printer(None if quiet else (stream or sys.stdout))
     data = find_demo_data()
-    files = sorted(data.glob("*.nc"))
+    files = demo_files(data)
     report = DemoReport(out_dir)
     say.line(f"frameshift demo: {len(files)} invented demo files (fictional Tollaven Shelf "
              f"Experiment, see data_demo/README.md) -> {out_dir}")
@@ -413,8 +440,8 @@ def _summarise(name: str, report: DemoReport) -> DatasetSummary:
     if terms_path is not None:
         with xr.open_dataset(terms_path) as ds:
             for term in TERMS:
-                parts = [ds[f"{term}_{c}"] for c in ("eastward", "northward", "upward")
-                         if f"{term}_{c}" in ds]
+                parts = [ds[f"{term}_{c}"] for c in ("eastward", "northward", "upward",
+                                                     "x", "y", "z") if f"{term}_{c}" in ds]
                 if parts:
                     square = sum(np.square(p.values.astype(np.float64)) for p in parts)
                     sizes[term] = float(np.sqrt(np.nanmax(square)))

@@ -19,7 +19,7 @@ pytest.importorskip("matplotlib", reason="the notebooks draw figures (plot extra
 
 ROOT = Path(__file__).resolve().parents[1]
 NOTEBOOKS = ROOT / "notebooks"
-NAMES = ["quick_tour", "archive_pipeline"]
+NAMES = ["quick_tour", "archive_pipeline", "rotating_table", "other_planets"]
 
 
 def _tree(folder: Path) -> set[str]:
@@ -99,3 +99,29 @@ def test_archive_pipeline_runs_from_repository_root(untouched):
     # float32 in, float32 out (IEEE 754 binary32: a rounding errs by at most 2^-24 relative)
     assert "stored as: float32" in text
     assert float(agree) <= float(one) and float(back) <= float(bound)
+
+
+@pytest.mark.slow
+def test_rotating_table_runs(untouched):
+    # The invented spin-up run: lab conversion, terms and free surface print their
+    # numbers; the rim of a 28 cm radius at 10 rpm stands Ω²r²/(2g) = 4.38 mm above the
+    # centre (handbook formula for rigid-body rotation of a liquid).
+    notebook = _execute("rotating_table", NOTEBOOKS)
+    text, images = _outputs(notebook)
+    assert images == 1
+    assert "inertial ['time', 'y', 'x', 'x_inertial', 'y_inertial']" in text
+    (rim,) = re.findall(r"rim height at the end of the run: (\S+) mm", text)
+    assert abs(float(rim) - 4.3835) < 1e-3
+    (during, after) = re.findall(r"Euler y at the rim, t = 5 s and 40 s: (\S+) (\S+)", text)[0]
+    assert float(during) < 0 and float(after) == 0.0  # spin-up only
+
+
+@pytest.mark.slow
+def test_other_planets_runs(untouched):
+    # Venus turns backwards: the frame's eastward speed at the equator is negative
+    # (about -1.8 m s-1 at 70 km, from the IAU 2015 rate and radius).
+    notebook = _execute("other_planets", NOTEBOOKS)
+    text, _ = _outputs(notebook)
+    (shift,) = re.findall(r"(\S+) m s-1 at the equator", text)
+    assert -1.84 < float(shift) < -1.82
+    assert "POLE | ICRF" in text

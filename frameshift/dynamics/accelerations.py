@@ -37,13 +37,15 @@ from frameshift.detect import (
     require_dataset,
     time_instants,
 )
+from frameshift.detect.latitude_kind import planetographic_view, restore_latitudes
+from frameshift.dynamics.planar import planar_accelerations
 from frameshift.errors import (
     ConventionError,
     FrameError,
     MissingInputError,
     UnsupportedInputError,
 )
-from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, check_frame
+from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, Plane, check_frame
 
 __all__ = ["TERMS", "TERM_FORMULAS", "TOTALS", "apparent_accelerations", "coriolis_parameters"]
 
@@ -116,6 +118,7 @@ def apparent_accelerations(
     longitude: str | None = None,
     vertical: str | None = None,
     time: str | None = None,
+    latitude_kind: str = "planetographic",
 ) -> xr.Dataset:
     """The accelerations a rotating frame and turning local axes add, term by term.
 
@@ -182,6 +185,8 @@ def apparent_accelerations(
         would otherwise count it twice), both, or ``()`` for none.
     latitude, longitude, vertical, time : str, optional
         Name coordinates the file does not mark, or resolve a choice it leaves open.
+    latitude_kind : {"planetographic", "planetocentric"}
+        What the latitudes are on a flattened body (see :func:`frameshift.to_inertial`).
 
     Returns
     -------
@@ -214,7 +219,20 @@ def apparent_accelerations(
     -0.001031261
     """
     require_dataset(ds)
+    if isinstance(getattr(frame, "figure", None), Plane):  # a lab table: terms on x, y, z
+        return planar_accelerations(ds, frame, terms=terms, velocity=velocity)
     check_frame(frame, Ellipsoid)
+    if latitude_kind != "planetographic":
+        view, names = planetographic_view(
+            ds, frame, latitude_kind, velocity=velocity, latitude=latitude,
+            longitude=longitude, vertical=vertical, time=time, height=height, target=INERTIAL,
+        )
+        out = apparent_accelerations(
+            view, frame, terms=terms, traditional=traditional, velocity=velocity,
+            height=height, include_parameters=include_parameters, latitude=latitude,
+            longitude=longitude, vertical=vertical, time=time,
+        )
+        return restore_latitudes(out, ds, names, latitude_kind, frame)
     chosen = _check_terms(terms)
     sums = _check_totals(totals)
     traditional = bool(traditional)

@@ -16,12 +16,19 @@ Examples
 
 from frameshift.frames.bodies import EARTH, EARTH_SPHERE, Frame, Planet, check_frame
 from frameshift.frames.figure import Ellipsoid, Figure, Plane
+from frameshift.frames.planets import JUPITER, MARS, SATURN, TITAN, VENUS
 from frameshift.frames.rotation import EarthRotationAngle, RateSeries, RotationLaw, SteadyRate
+from frameshift.frames.table import RotatingTable
 from frameshift.frames.timescales import Instants, instants_of
 
 __all__ = [
     "EARTH",
     "EARTH_SPHERE",
+    "JUPITER",
+    "MARS",
+    "SATURN",
+    "TITAN",
+    "VENUS",
     "EarthRotationAngle",
     "Ellipsoid",
     "Figure",
@@ -30,6 +37,7 @@ __all__ = [
     "Plane",
     "Planet",
     "RateSeries",
+    "RotatingTable",
     "RotationLaw",
     "SteadyRate",
     "check_frame",

@@ -25,15 +25,78 @@ from frameshift._kernels.rotation import rotation_about_z, terrestrial_to_celest
 from frameshift.errors import ConventionError, check_choice
 from frameshift.frames.timescales import require_erfa, utc_to_tt
 
-__all__ = ["CELESTIAL_AXES", "body_to_inertial_matrix", "cip_coordinates"]
+__all__ = [
+    "AXES_DEFINITIONS",
+    "CELESTIAL_AXES",
+    "body_to_inertial_matrix",
+    "cip_coordinates",
+    "resolve_axes",
+]
 
-CELESTIAL_AXES = ("cirs", "gcrs")
+CELESTIAL_AXES = ("cirs", "gcrs", "pole", "icrf")
+#: What each choice of inertial axes is, written beside ``inertial_axes``
+AXES_DEFINITIONS = {
+    "cirs": "Earth's celestial intermediate reference system: Earth Rotation Angle only",
+    "gcrs": "geocentric celestial reference system: rotation angle and precession-nutation",
+    "pole": "the body's own non-rotating axes: z along its pole, x towards the ascending "
+    "node of its equator on the ICRF equator (angle W of the IAU WGCCRE 2015 report)",
+    "icrf": "ICRF axes through the body's pole (alpha0, delta0) and prime meridian W of the "
+    "IAU WGCCRE 2015 report",
+}
 
 #: Spacing of the interpolation nodes for X, Y, s (days), and points per polynomial.
 NODE_STEP = 0.5
 NODE_POINTS = 12
 _OFFSETS = np.arange(1 - NODE_POINTS // 2, NODE_POINTS // 2 + 1)  # -5 .. 6 around an interval
 _BLOCK = 1 << 15
+
+
+def resolve_axes(frame, celestial: str) -> str:
+    """The inertial axes a choice means for ``frame``.
+
+    For the Earth (a frame on the Earth Rotation Angle) ``"pole"`` is
+    ``"cirs"``; for any other body ``"cirs"`` is its own ``"pole"`` axes, and
+    ``"gcrs"`` is refused. ``"icrf"`` needs a named body's IAU elements.
+
+    Examples
+    --------
+    >>> from frameshift import EARTH, MARS
+    >>> resolve_axes(EARTH, "pole"), resolve_axes(MARS, "cirs")
+    ('cirs', 'pole')
+    """
+    from frameshift.frames.planets import iau_elements
+
+    check_choice("celestial", celestial, CELESTIAL_AXES)
+    if getattr(frame, "uses_earth_rotation_angle", False):
+        if celestial == "icrf":
+            raise ConventionError(
+                "celestial='icrf' applies a body's IAU pole and prime meridian; for the Earth "
+                "use celestial='gcrs' (precession-nutation, IAU 2006/2000A)",
+                variable="celestial",
+                expected="'cirs', 'gcrs' or 'pole' for the Earth",
+                found="'icrf'",
+            )
+        return "cirs" if celestial == "pole" else celestial
+    if celestial in ("cirs", "pole"):
+        return "pole"
+    if celestial == "gcrs":
+        raise ConventionError(
+            f"celestial='gcrs' applies Earth precession-nutation; frame {frame.name!r} is "
+            "not the Earth. Use celestial='pole' (its own axes) or 'icrf' (named bodies)",
+            variable="celestial",
+            expected="'pole' or 'icrf' for this frame",
+            found="'gcrs'",
+        )
+    if celestial == "icrf" and iau_elements(frame) is None:
+        raise ConventionError(
+            f"celestial='icrf' needs the pole and prime meridian of a named body (MARS, "
+            f"VENUS, JUPITER, SATURN, TITAN); frame {frame.name!r} has none. Use "
+            "celestial='pole' (the body's own non-rotating axes)",
+            variable="celestial",
+            expected="'pole' for this frame",
+            found="'icrf'",
+        )
+    return celestial
 
 
 def body_to_inertial_matrix(frame, jd1, jd2, dut1=0.0, celestial: str = "cirs") -> np.ndarray:
@@ -46,7 +109,8 @@ def body_to_inertial_matrix(frame, jd1, jd2, dut1=0.0, celestial: str = "cirs") 
         Two-part UTC Julian dates.
     dut1 : float or array_like
         UT1 - UTC in seconds (broadcast against the dates).
-    celestial : {"cirs", "gcrs"}
+    celestial : {"cirs", "gcrs", "pole", "icrf"}
+        See :func:`resolve_axes`.
 
     Examples
     --------
@@ -58,20 +122,35 @@ def body_to_inertial_matrix(frame, jd1, jd2, dut1=0.0, celestial: str = "cirs") 
     check_choice("celestial", celestial, CELESTIAL_AXES)
     jd1 = np.asarray(jd1, dtype=np.float64)
     jd2 = np.asarray(jd2, dtype=np.float64)
+    celestial = resolve_axes(frame, celestial)
+    if celestial in ("pole", "icrf"):  # a body other than the Earth
+        return _body_matrix(frame, jd1, jd2, celestial)
     ut1_2 = jd2 + np.asarray(dut1, dtype=np.float64) / 86400.0
     angle = frame.rotation_angle(jd1, ut1_2)
     if celestial == "cirs":
         return rotation_about_z(angle)
-    if frame.angle_model != "earth_rotation_angle":
-        raise ConventionError(
-            f"celestial='gcrs' applies Earth precession-nutation; frame {frame.name!r} is "
-            "not the Earth. Use celestial='cirs' (rotation angle only)",
-            variable="celestial",
-            expected="'cirs' for this frame",
-            found="'gcrs'",
-        )
     x, y, s = cip_coordinates(jd1, jd2)
     return terrestrial_to_celestial(x, y, s, angle)
+
+
+def _body_matrix(frame, jd1, jd2, axes: str) -> np.ndarray:
+    """Body-fixed -> pole axes (Rz(W)) or ICRF (Rz(α0 + 90°) Rx(90° - δ0) Rz(W)) at UTC dates.
+
+    For a named body W, α0, δ0 follow the IAU 2015 expressions in TDB
+    (taken as TT from UTC with pyerfa: TDB - TT is under 2 ms). Any other
+    frame turns by its own rotation angle about its pole.
+    """
+    from frameshift._kernels import orientation
+    from frameshift.frames.planets import iau_elements
+
+    elements = iau_elements(frame)
+    if elements is None:
+        return rotation_about_z(frame.rotation_angle(jd1, jd2))
+    tt1, tt2 = utc_to_tt(jd1, jd2)
+    ra, dec, w = orientation.element_angles(elements, tt1, tt2)
+    if axes == "pole":
+        return rotation_about_z(w)
+    return orientation.body_to_icrf(ra, dec, w)
 
 
 def cip_coordinates(jd1, jd2) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

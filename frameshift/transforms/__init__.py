@@ -14,11 +14,17 @@ from collections.abc import Mapping
 import xarray as xr
 
 from frameshift.detect import INERTIAL, ROTATING, read_layout, require_dataset
+from frameshift.detect.latitude_kind import (
+    LATITUDE_KINDS,
+    planetographic_view,
+    restore_latitudes,
+)
 from frameshift.errors import ConventionError, check_choice
-from frameshift.frames import EARTH, Ellipsoid, Frame, check_frame
-from frameshift.frames.celestial import CELESTIAL_AXES
+from frameshift.frames import EARTH, Ellipsoid, Frame, Plane, check_frame
+from frameshift.frames.celestial import CELESTIAL_AXES, resolve_axes
 from frameshift.transforms.cartesian import from_cartesian, to_cartesian
 from frameshift.transforms.local import convert_local
+from frameshift.transforms.planar import GRIDS, planar_to_inertial, planar_to_rotating
 
 __all__ = ["BASES", "to_inertial", "to_rotating"]
 
@@ -37,6 +43,8 @@ def to_inertial(
     longitude: str | None = None,
     vertical: str | None = None,
     time: str | None = None,
+    grid: str = "same",
+    latitude_kind: str = "planetographic",
 ) -> xr.Dataset:
     """Velocities relative to a rotating body, seen from the inertial frame.
 
@@ -67,11 +75,29 @@ def to_inertial(
         Name the coordinate to use where the file carries no CF attributes for
         it or leaves a choice open; otherwise each velocity's ``coordinates``
         attribute decides.
-    celestial : {"cirs", "gcrs"}
-        Inertial axes for ``basis="cartesian"``: rotation angle only (CIRS) or
-        with precession-nutation (GCRS, IAU 2006/2000A, needs pyerfa).
+    celestial : {"cirs", "gcrs", "pole", "icrf"}
+        Inertial axes for ``basis="cartesian"``: for the Earth, rotation angle
+        only (CIRS, also "pole") or with precession-nutation (GCRS, IAU
+        2006/2000A, needs pyerfa); for another body, its own non-rotating
+        axes along its pole ("pole", also "cirs") or, for the named bodies
+        (MARS, VENUS...), the ICRF through the IAU 2015 pole and prime
+        meridian ("icrf", needs pyerfa). ``inertial_axes`` and
+        ``inertial_axes_definition`` in the attributes say which.
     dut1 : float or DataArray over time
         UT1 - UTC in seconds, for ``basis="cartesian"``.
+    grid : {"same", "fixed"}
+        For a frame with a plane figure (a
+        :func:`~frameshift.frames.RotatingTable`): ``"same"`` keeps the
+        measured points and adds their positions in the target frame as
+        coordinates; ``"fixed"`` moves every field to a grid fixed in the
+        target frame by linear interpolation (see
+        :mod:`frameshift.transforms.planar`). Velocities are then named
+        ``velocity={"x": ..., "y": ...}`` (optionally ``"z"``).
+    latitude_kind : {"planetographic", "planetocentric"}
+        What the latitudes are on a flattened body: planetographic (geodetic,
+        the normal to the surface; the default) or planetocentric (from the
+        centre). Planetocentric ones are converted to place the points and
+        left as given in the result (``latitude_kind`` in its attributes).
 
     Returns
     -------
@@ -88,8 +114,15 @@ def to_inertial(
     >>> round(float(frameshift.to_inertial(ds)["u"][0]), 4)
     465.1011
     """
-    return _convert(ds, frame, INERTIAL, basis, velocity, height, celestial, dut1,
-                    latitude, longitude, vertical, time)
+    if _planar(frame, grid, basis):
+        return planar_to_inertial(ds, frame, velocity=velocity, grid=grid)
+    view, names = planetographic_view(
+        require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
+        longitude=longitude, vertical=vertical, time=time, height=height, target=INERTIAL,
+    )
+    out = _convert(view, frame, INERTIAL, basis, velocity, height, celestial, dut1,
+                   latitude, longitude, vertical, time)
+    return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
 def to_rotating(
@@ -105,6 +138,8 @@ def to_rotating(
     longitude: str | None = None,
     vertical: str | None = None,
     time: str | None = None,
+    grid: str = "same",
+    latitude_kind: str = "planetographic",
 ) -> xr.Dataset:
     """Inertial velocities back to velocities relative to the rotating body.
 
@@ -130,8 +165,44 @@ def to_rotating(
     >>> round(float(back["u"][0]), 9)
     10.0
     """
-    return _convert(ds, frame, ROTATING, basis, velocity, height, celestial, dut1,
-                    latitude, longitude, vertical, time)
+    if _planar(frame, grid, basis):
+        return planar_to_rotating(ds, frame, velocity=velocity, grid=grid)
+    if basis == "cartesian":  # positions are inertial: only the latitudes computed change
+        view, names = ds, ()
+        check_choice("latitude_kind", latitude_kind, LATITUDE_KINDS)
+    else:
+        view, names = planetographic_view(
+            require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
+            longitude=longitude, vertical=vertical, time=time, height=height, target=ROTATING,
+        )
+    out = _convert(view, frame, ROTATING, basis, velocity, height, celestial, dut1,
+                   latitude, longitude, vertical, time)
+    return restore_latitudes(out, ds, names, latitude_kind, frame)
+
+
+def _planar(frame, grid, basis) -> bool:
+    """True for a frame with a plane figure (a lab table); ``grid=`` is only for those."""
+    check_choice("grid", grid, GRIDS)
+    if isinstance(getattr(frame, "figure", None), Plane):
+        if basis != "local":
+            raise ConventionError(
+                f"frame {frame.name!r} is a plane (a lab table): its fields stay on the "
+                "table's or the lab's x/y axes, placed by grid='same' or 'fixed'; "
+                f"basis={basis!r} does not apply",
+                variable="basis",
+                expected="'local' (the default) for a plane frame",
+                found=repr(basis),
+            )
+        return True
+    if grid != "same":
+        raise ConventionError(
+            "grid= places lab fields for a frame with a plane figure (a rotating table); "
+            f"frame {getattr(frame, 'name', frame)!r} is not one",
+            variable="grid",
+            expected="'same' for this frame",
+            found=repr(grid),
+        )
+    return False
 
 
 def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
@@ -140,6 +211,7 @@ def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
     check_choice("basis", basis, BASES)
     check_choice("celestial", celestial, CELESTIAL_AXES)
     check_frame(frame, Ellipsoid)
+    celestial = resolve_axes(frame, celestial)
     if target == ROTATING and basis == "cartesian":
         given = {"velocity": velocity, "height": height, "latitude": latitude,
                  "longitude": longitude, "vertical": vertical}

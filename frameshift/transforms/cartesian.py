@@ -30,7 +30,7 @@ from frameshift.detect import (
 from frameshift.detect.criteria import COMPONENTS
 from frameshift.errors import ConventionError, FrameError, MissingInputError, UnitsError
 from frameshift.frames import Frame, instants_of
-from frameshift.frames.celestial import body_to_inertial_matrix
+from frameshift.frames.celestial import AXES_DEFINITIONS, body_to_inertial_matrix
 from frameshift.transforms.local import stamped
 from frameshift.units import parse_units, scale_to
 
@@ -132,9 +132,12 @@ def to_cartesian(ds, frame: Frame, layout: Layout, celestial: str, dut1) -> xr.D
             "reference_frame": INERTIAL,
             "reference_body": frame.name,
             "inertial_axes": axes,
+            "inertial_axes_definition": AXES_DEFINITIONS[celestial],
             "assumptions": "; ".join(
-                [*vset.notes, "polar motion not applied"]
-                + (["UT1 - UTC (dut1) taken as 0 s"] if _is_zero(dut1) else [])
+                [*vset.notes]
+                + (["polar motion not applied"] if celestial in ("cirs", "gcrs") else [])
+                + (["UT1 - UTC (dut1) taken as 0 s"] if _is_zero(dut1) and celestial in (
+                    "cirs", "gcrs") else [])
             ),
         }
         if not isinstance(dut1, xr.DataArray) and np.ndim(dut1) == 0:
@@ -310,7 +313,8 @@ def _check_cartesian(ds: xr.Dataset, name: str, celestial: str) -> None:
             found=str(var.attrs["reference_frame"]),
         )
     axes = var.attrs.get("inertial_axes")
-    if axes is not None and str(axes).lower() != celestial:
+    same = {str(axes).lower(), celestial} == {"cirs", "pole"}  # a body's own axes, either name
+    if axes is not None and str(axes).lower() != celestial and not same:
         raise ConventionError(
             f"{name!r} is on {axes} axes but celestial={celestial!r} was asked",
             variable="celestial",

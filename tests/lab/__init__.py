@@ -1,0 +1,1 @@
+"""Rotating tables, planar frames and other bodies."""
