@@ -294,7 +294,7 @@ def _check_cartesian(ds: xr.Dataset, name: str, celestial: str) -> None:
             f"to_rotating(basis='cartesian') needs a variable {name!r} with a "
             "'component' dimension (as to_inertial(basis='cartesian') writes)",
             variable=name,
-            expected=f"{name}(..., component)",
+            expected=f"{name}(component, ...)",
             found="absent",
         )
     var = ds[name]
