@@ -201,8 +201,9 @@ def open_input(
 
     Returns ``(decoded, raw)``: the CF-decoded Dataset to compute on, and for
     a single input the same input undecoded (``decode_cf=False``), from which
-    untouched variables are copied byte for byte; ``raw`` is None when
-    several files are combined along time (their stored encodings may differ).
+    untouched variables are copied byte for byte; when several files are
+    combined along time, ``raw`` is the first file undecoded, from which only
+    the variables all files share (same shape as combined) are copied.
     A Zarr store is a directory named ``*.zarr`` (see :func:`input_format`).
     Attributes that would make decoding fail half-way (a ``scale_factor``
     stored as text) are refused first, naming the variable. Close both when done.
@@ -304,7 +305,12 @@ def _open(files: list, chunks: dict, combine: bool,
             files, combine="by_coords", data_vars="minimal", coords="minimal",
             compat="override", chunks=chunks, engine=engine,
         )
-        return decode_labels(ds), None
+        try:  # the first file as stored: variables the files share are copied from it
+            raw = xr.open_dataset(files[0], chunks=chunks, engine=engine, decode_cf=False)
+        except BaseException:
+            ds.close()
+            raise
+        return decode_labels(ds), raw
     ds = xr.open_dataset(files[0], chunks=chunks, engine=engine)
     try:
         raw = xr.open_dataset(files[0], chunks=chunks, engine=engine, decode_cf=False)

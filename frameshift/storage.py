@@ -202,7 +202,7 @@ def plan_output(
         is_coord = name in coords
         if old is not None and _same_data(var, old) and _same_attrs(var.attrs, old.attrs):
             how[name] = "copied"
-            if raw is not None and name in raw.variables:
+            if raw is not None and name in raw.variables and _matches(raw.variables[name], var):
                 new = _as_stored(raw.variables[name], target)  # as stored
             else:
                 new = var.copy(deep=False)
@@ -235,6 +235,15 @@ def plan_output(
     data_vars = {n: v for n, v in variables.items() if n not in coords}
     coord_vars = {n: v for n, v in variables.items() if n in coords}
     return xr.Dataset(data_vars, coords=coord_vars, attrs=dict(out.attrs)), how
+
+
+def _matches(raw: xr.Variable, var: xr.Variable) -> bool:
+    """Whether the stored variable holds the decoded one's elements (not a part of them,
+    as the first of several files combined along time does)."""
+    dims, shape = raw.dims, raw.shape
+    if raw.dtype == np.dtype("S1") and raw.ndim and var.dtype.kind in "SUO":
+        dims, shape = dims[:-1], shape[:-1]  # the char dimension joins the characters
+    return dims == var.dims and shape == var.shape
 
 
 def _as_stored(raw: xr.Variable, target: str) -> xr.Variable:

@@ -244,3 +244,16 @@ def test_compressed_input_gives_compressed_output(layout):
                                    complevel=6), layout)
     plan, _ = plan_output(frameshift.to_inertial(src), src)
     assert plan["ua"].encoding["zlib"] and plan["ua"].encoding["complevel"] == 1
+
+
+def test_combined_run_copies_shared_variables_as_stored(tmp_path):
+    # --combine opens the inputs as one Dataset; variables every file shares are still
+    # copied as the first file stored them (the char label with its numeric missing_value)
+    (tmp_path / "in").mkdir()
+    src = make_station_file(tmp_path / "in" / "station.nc")
+    assert _run("convert", src, "--combine", "--out", tmp_path / "out", "--quiet") == 0
+    out = tmp_path / "out" / "combined.nc"
+    with _nc(src) as a, _nc(out) as b:
+        for name in ("station_name", "temp", "obs_time", "lat", "lon"):
+            assert_same_stored(a[name], b[name])
+    assert_cf_clean(out)  # IOOS compliance checker, cf:1.11
