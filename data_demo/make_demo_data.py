@@ -12,6 +12,8 @@ Files written (into the folder holding this script, or ``--out DIR``):
 * ``balloon_track.nc``  drifting balloon TSE-B1 (trajectory)
 * ``packed_knots.nc``   buoy TSE-S3, int16-packed, knots and cm s-1, noleap time
 * ``tiny_example.nc``   2 x 3 x 4 grid of 10 m winds for quick examples
+* ``ship_met.nc``       research vessel TSE-V5: heading, course, speed over ground and
+                        the wind its anemometer feels (relative to the moving ship)
 
 The output is deterministic: every random number comes from
 ``numpy.random.default_rng(RANDOM_STATE)``.
@@ -69,6 +71,7 @@ FILE_NAMES = (
     "balloon_track.nc",
     "packed_knots.nc",
     "tiny_example.nc",
+    "ship_met.nc",
 )
 
 
@@ -559,12 +562,109 @@ def make_tiny_example(rng):
     return ds, enc
 
 
+# --------------------------------------------------------------------------
+# 6. ship met record: the anemometer feels the true wind minus the ship's motion
+# --------------------------------------------------------------------------
+SHIP_START = (46.95, -39.60)  # degrees north, degrees east
+KNOT = 1852.0 / 3600.0  # m s-1
+
+
+def ship_true_wind(t_hours):
+    """The invented true wind: from 250 veering to 290 degrees, 12 rising to 15 m s-1."""
+    frac = np.clip(np.asarray(t_hours) / 12.0, 0.0, 1.0)
+    return 250.0 + 40.0 * frac, 12.0 + 3.0 * frac
+
+
+def make_ship_met(rng):
+    dt = 60.0
+    n = 12 * 60 + 1  # twelve hours, every minute
+    times = np.datetime64("2031-09-02T06:00", "ns") + np.arange(n) * np.timedelta64(1, "m")
+    t_hours = np.arange(n) * dt / 3600.0
+    # a survey line out at 065 and back at 245 after a turn, about 10 knots
+    course = np.where(t_hours < 5.5, 65.0, np.where(t_hours < 6.5,
+                      65.0 + 180.0 * (t_hours - 5.5), 245.0)) % 360.0
+    course = (course + rng.normal(0.0, 1.0, n)) % 360.0
+    sog_kn = 10.0 + rng.normal(0.0, 0.3, n)
+    heading = (course + 3.0 + rng.normal(0.0, 0.8, n)) % 360.0  # crabbing 3 degrees
+    # track from course and speed over ground (simple forward steps)
+    lat = np.empty(n)
+    lon = np.empty(n)
+    lat[0], lon[0] = SHIP_START
+    c = np.deg2rad(course)
+    v_east = sog_kn * KNOT * np.sin(c)
+    v_north = sog_kn * KNOT * np.cos(c)
+    for i in range(1, n):
+        lat[i] = lat[i - 1] + np.rad2deg(v_north[i - 1] * dt / EARTH_RADIUS)
+        lon[i] = lon[i - 1] + np.rad2deg(
+            v_east[i - 1] * dt / (EARTH_RADIUS * np.cos(np.deg2rad(lat[i - 1]))))
+    # the true wind with gusts, and what the bow-mounted anemometer (zero line on the
+    # bow) feels: apparent = true - ship velocity over ground
+    wdir, wspd = ship_true_wind(t_hours)
+    wspd = wspd + rng.normal(0.0, 0.8, n)
+    wdir = wdir + rng.normal(0.0, 4.0, n)
+    u_true = -wspd * np.sin(np.deg2rad(wdir))
+    v_true = -wspd * np.cos(np.deg2rad(wdir))
+    u_app, v_app = u_true - v_east, v_true - v_north
+    app_from = np.rad2deg(np.arctan2(-u_app, -v_app))
+    rel_dir = (app_from - heading) % 360.0
+    rel_spd = np.hypot(u_app, v_app)
+
+    def f4(values):
+        return values.astype("f4")
+
+    ds = xr.Dataset(
+        {
+            "heading": ("time", f4(heading), {"standard_name": "platform_orientation",
+                                              "long_name": "ship's heading (gyro)",
+                                              "units": "degree"}),
+            "cog": ("time", f4(course), {"standard_name": "platform_course",
+                                         "long_name": "course over ground", "units": "degree"}),
+            "sog": ("time", f4(sog_kn), {"standard_name": "platform_speed_wrt_ground",
+                                         "long_name": "speed over ground", "units": "knot"}),
+            "rel_wdir": ("time", f4(rel_dir), {
+                "long_name": "wind direction relative to the bow (from, clockwise, "
+                             "anemometer zero line on the bow)",
+                "units": "degree"}),
+            "rel_wspd": ("time", f4(rel_spd), {
+                "long_name": "wind speed relative to the moving ship", "units": "m s-1"}),
+        },
+        coords={
+            "time": ("time", times, TIME_ATTRS),
+            "lat": ("time", lat, lat_attrs()),
+            "lon": ("time", lon, lon_attrs()),
+            "height": ((), 18.0, {"standard_name": "height", "long_name": "anemometer height",
+                                  "units": "m", "positive": "up"}),
+            "trajectory": ((), char_id("TSE-V5"),
+                           {"cf_role": "trajectory_id", "long_name": "ship name"}),
+        },
+        attrs=global_attrs(
+            "frameshift demo: met record of fictional research vessel TSE-V5 (invented)",
+            featureType="trajectory",
+            summary=(
+                "Invented 1-minute record of a ship running a survey line out at 065 and "
+                "back at 245 at about 10 knots, crabbing about 3 degrees. The true wind "
+                "(from 250 veering to 290 degrees, 12 rising to 15 m s-1, with gusts) is "
+                "not stored: the file holds what the bow-mounted anemometer feels, the "
+                "true wind minus the ship's velocity over ground, as instruments record it. "
+                "frameshift true_wind (or frameshift earth --relative-wind) recovers it."
+            ),
+        ),
+    )
+    enc = {v: float_encoding() for v in ("heading", "cog", "sog", "rel_wdir", "rel_wspd")}
+    enc["time"] = time_encoding("minutes since 2031-09-02 06:00:00")
+    enc["lat"] = {"dtype": "float64", **COMPRESS}
+    enc["lon"] = {"dtype": "float64", **COMPRESS}
+    enc["trajectory"] = {"dtype": "S1", "char_dim_name": "name_strlen"}
+    return ds, enc
+
+
 MAKERS = {
     "global_winds.nc": make_global_winds,
     "shelf_mooring.nc": make_shelf_mooring,
     "balloon_track.nc": make_balloon_track,
     "packed_knots.nc": make_packed_knots,
     "tiny_example.nc": make_tiny_example,
+    "ship_met.nc": make_ship_met,
 }
 
 
@@ -638,6 +738,25 @@ def self_check(out_dir, table_path=None):
             problems.append(f"balloon_track.nc: winds and track disagree by {err:.3f} m s-1")
         if np.abs(w_fd - b.w.values)[1:-1].max() > 0.01:
             problems.append("balloon_track.nc: w and d(alt)/dt disagree")
+
+    # the ship: the track follows course and speed over ground, and the true wind of the
+    # Smith, Bourassa & Sharp (1999) equations is the invented one (to within the gusts)
+    with xr.open_dataset(out_dir / "ship_met.nc") as s:
+        tsec = (s.time - s.time[0]).values / np.timedelta64(1, "s")
+        c = np.deg2rad(s.cog.values.astype(float))
+        speed = s.sog.values.astype(float) * KNOT
+        north = np.diff(np.deg2rad(s.lat.values)) * EARTH_RADIUS / np.diff(tsec)
+        if np.abs(north - (speed * np.cos(c))[:-1]).max() > 1e-6:
+            problems.append("ship_met.nc: track and course/speed over ground disagree")
+        a = np.deg2rad(270.0 - (s.heading.values + s.rel_wdir.values).astype(float))
+        cc = np.deg2rad(90.0 - s.cog.values.astype(float))
+        u = s.rel_wspd.values * np.cos(a) + speed * np.cos(cc)
+        v = s.rel_wspd.values * np.sin(a) + speed * np.sin(cc)
+        wdir = np.rad2deg(np.arctan2(-u, -v)) % 360.0
+        want, _ = ship_true_wind(tsec / 3600.0)
+        miss = (wdir - want + 180.0) % 360.0 - 180.0  # gusts: 4 degrees of noise
+        if abs(miss.mean()) > 1.0 or np.abs(miss).max() > 30.0:
+            problems.append("ship_met.nc: the true wind is not the invented one")
 
     mb = total / 1e6
     print(f"self-check: total size {mb:.2f} MB")

@@ -46,6 +46,16 @@ from frameshift.frames import (
     RotatingTable,
     SteadyRate,
 )
+from frameshift.instruments import (
+    earth_to_grid,
+    from_speed_direction,
+    grid_to_earth,
+    magnetic_declination,
+    magnetic_to_true,
+    platform_to_earth,
+    to_speed_direction,
+    true_wind,
+)
 from frameshift.transforms import to_inertial, to_rotating
 
 __all__ = [
@@ -77,13 +87,21 @@ __all__ = [
     "apparent_accelerations",
     "axial_angular_momentum",
     "coriolis_parameters",
+    "earth_to_grid",
     "excitation",
     "free_surface",
+    "from_speed_direction",
+    "grid_to_earth",
     "inertial_demodulation",
     "integrate_angular_momentum",
+    "magnetic_declination",
+    "magnetic_to_true",
     "normal_gravity",
+    "platform_to_earth",
     "rotary_spectrum",
     "to_inertial",
     "to_rotating",
+    "to_speed_direction",
     "track_forces",
+    "true_wind",
 ]

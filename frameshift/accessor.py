@@ -52,6 +52,48 @@ class FrameshiftAccessor:
 
         return normal_gravity(self._ds, *args, **kwargs)
 
+    def from_speed_direction(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.from_speed_direction`."""
+        from frameshift.instruments.polar import from_speed_direction
+
+        return from_speed_direction(self._ds, *args, **kwargs)
+
+    def to_speed_direction(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.to_speed_direction`."""
+        from frameshift.instruments.polar import to_speed_direction
+
+        return to_speed_direction(self._ds, *args, **kwargs)
+
+    def grid_to_earth(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.grid_to_earth`."""
+        from frameshift.instruments.grid import grid_to_earth
+
+        return grid_to_earth(self._ds, *args, **kwargs)
+
+    def earth_to_grid(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.earth_to_grid`."""
+        from frameshift.instruments.grid import earth_to_grid
+
+        return earth_to_grid(self._ds, *args, **kwargs)
+
+    def magnetic_to_true(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.magnetic_to_true`."""
+        from frameshift.instruments.magnetic import magnetic_to_true
+
+        return magnetic_to_true(self._ds, *args, **kwargs)
+
+    def true_wind(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.true_wind` (the Dataset form)."""
+        from frameshift.instruments.platform import true_wind
+
+        return true_wind(self._ds, *args, **kwargs)
+
+    def platform_to_earth(self, *args, **kwargs) -> xr.Dataset:
+        """See :func:`frameshift.platform_to_earth`."""
+        from frameshift.instruments.platform import platform_to_earth
+
+        return platform_to_earth(self._ds, *args, **kwargs)
+
     def axial_angular_momentum(self, *args, **kwargs) -> xr.Dataset:
         """See :func:`frameshift.axial_angular_momentum`."""
         from frameshift.diagnostics import axial_angular_momentum

@@ -1,7 +1,8 @@
 """The ``frameshift`` command line: a thin layer over :mod:`frameshift.batch`.
 
 Subcommands: ``convert`` (between the Earth-rotating and the inertial
-frame), ``terms`` (apparent-acceleration terms), ``inspect`` (what
+frame), ``terms`` (apparent-acceleration terms), ``earth`` (instrument
+records to Earth-relative east/north/up), ``inspect`` (what
 frameshift finds in a file and what it would refuse) and ``demo``.
 Run ``frameshift SUBCOMMAND --help`` for options and examples.
 """
@@ -271,6 +272,17 @@ def build_parser() -> argparse.ArgumentParser:
                        "reciprocal_coriolis_parameter (2 Omega cos(lat))")
     _velocity_options(terms)
 
+    from frameshift.instruments import command as earth_command
+
+    earth = sub.add_parser("earth", help="bring instrument records to Earth-relative east/north",
+                           description="Bring what instruments record (speed and direction, "
+                           "grid-relative components, magnetic bearings, a ship's relative wind, "
+                           "profiler currents on the ship's axes) to Earth-relative "
+                           "east/north/up components with CF standard names.",
+                           epilog=earth_command.EPILOG, formatter_class=fmt)
+    _common(earth)
+    earth_command.add_arguments(earth)
+
     from frameshift.diagnostics import command as diagnostics_command
 
     diagnostics_command.add_parser(sub, _common)
@@ -364,7 +376,11 @@ def check_usage(parser: argparse.ArgumentParser, args: argparse.Namespace) -> No
 def _run_batch(args: argparse.Namespace, command: str) -> int:
     from frameshift import batch
 
-    if args.command == "convert":
+    if args.command == "earth":
+        from frameshift.instruments.command import operation_from_args
+
+        operation = operation_from_args(args)
+    elif args.command == "convert":
         basis = args.basis or ("local" if args.to == "inertial" else "auto")
         operation = batch.convert_operation(
             args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
@@ -434,7 +450,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     check_usage(parser, args)
     command = shlex.join(["frameshift", *args_list])
     try:
-        if args.command in ("convert", "terms", "momentum"):
+        if args.command in ("convert", "terms", "momentum", "earth"):
             return _run_batch(args, command)
         if args.command == "inspect":
             from frameshift.report import inspect_files

@@ -68,6 +68,9 @@ _VELOCITY = {"packed_knots.nc": {"eastward": "wspd_u", "northward": "wspd_v"},
 #: other demo files are relative to the Earth.
 EXAMPLE_FRAMES = {"tank_spinup.nc": "table:table_rate", "cloud_winds.nc": "venus"}
 
+#: Instrument records, brought to Earth-relative east/north first (as ``frameshift earth``).
+_EARTH_FIRST = {"ship_met.nc": {"relative_wind": {"direction": "rel_wdir", "speed": "rel_wspd"}}}
+
 #: Steps refused by design, and the (variable, found) of the refusal: the ``noleap``
 #: calendar has no real time, which Cartesian axes need. Any other failure is a failure.
 _REFUSED_BY_DESIGN = {("packed_knots.nc", "inertial_cartesian"): ("time", "noleap"),
@@ -204,12 +207,18 @@ def _operation(step: str, name: str) -> batch.Operation:
     velocity = _VELOCITY.get(name)
     frame = EXAMPLE_FRAMES.get(name)
     if step == "inertial_local":
-        return batch.convert_operation("inertial", velocity=velocity, frame=frame)
-    if step == "inertial_cartesian":
-        return batch.convert_operation("inertial", basis="cartesian", velocity=velocity,
-                                       frame=frame)
-    return batch.terms_operation(velocity=velocity, frame=frame,
-                                 totals=("full", "without_centrifugal"))
+        operation = batch.convert_operation("inertial", velocity=velocity, frame=frame)
+    elif step == "inertial_cartesian":
+        operation = batch.convert_operation("inertial", basis="cartesian", velocity=velocity,
+                                            frame=frame)
+    else:
+        operation = batch.terms_operation(velocity=velocity, frame=frame,
+                                          totals=("full", "without_centrifugal"))
+    if name in _EARTH_FIRST:
+        from frameshift.instruments.command import earth_first
+
+        return earth_first(_EARTH_FIRST[name], operation)
+    return operation
 
 
 #: The terms the demo's figures draw: those that carry dynamics. The centrifugal term

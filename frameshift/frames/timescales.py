@@ -196,9 +196,10 @@ def require_erfa():
     """pyerfa, or an error saying how to install it."""
     try:
         import erfa
-    except ImportError as exc:  # pragma: no cover - exercised only without the extra
+    except ImportError as exc:  # pragma: no cover - pyerfa is a dependency of frameshift
         raise UnsupportedInputError(
-            "celestial='gcrs' needs pyerfa; install it with: pip install 'frameshift[celestial]'",
+            "TT, precession-nutation and the orientation of other bodies need pyerfa, a "
+            "dependency of frameshift that is missing here; install it with: pip install pyerfa",
             variable="celestial",
             expected="pyerfa installed",
             found="pyerfa missing",

@@ -25,6 +25,7 @@ CASES = {
     "B4": "archives",
     "B5": "small",
     "B6": "parallel",
+    "B7": "instruments",
     "B13": "angular_momentum",
 }
 DEFAULT_JSON = Path(__file__).parent / "results" / "latest.json"
