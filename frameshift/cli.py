@@ -457,7 +457,8 @@ def main(argv: Sequence[str] | None = None) -> int:
 
             return inspect_files(args.inputs, velocity=args.velocity, as_json=args.json,
                             settings={"height": parse_height(args.height),
-                                      "celestial": args.celestial, "dut1": args.dut1})
+                                      "celestial": args.celestial, "dut1": args.dut1,
+                                      **_coordinates(args)})
         from frameshift import demo
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code

@@ -34,7 +34,8 @@ _WORDING = [
     (re.compile(r"\bcelestial=(?=\W)"), "--celestial "),
     (re.compile(r"\b(velocity|height|terms|totals)= and (velocity|height|terms|totals)="),
      r"--\1 and --\2"),
-    (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=['\"])"), r"--\1 "),
+    (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1|latitude|longitude|vertical|"
+                r"time)=(?=['\"])"), r"--\1 "),
     (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=\W|$)"), r"--\1"),
     (re.compile(r"\bpass --height"), "give --height"),
 ]
@@ -63,13 +64,15 @@ def describe(
     height: float | str | None = None,
     celestial: str | None = None,
     dut1: float | None = None,
+    **coordinates: str,
 ) -> dict:
     """What frameshift finds in ``ds`` and what each operation would do with it.
 
     Detection is :func:`frameshift.detect.find_layout`; whether an operation
     would be refused is found by running it lazily (no data are computed),
     with the options that decide it (``velocity``, ``height``, ``celestial``,
-    ``dut1``; a Cartesian file's own ``inertial_axes`` when ``celestial`` is
+    ``dut1``, and ``latitude``, ``longitude``, ``vertical``, ``time`` naming
+    coordinates; a Cartesian file's own ``inertial_axes`` and UT1 - UTC when
     not given), and keeping its error.
 
     Examples
@@ -84,7 +87,7 @@ def describe(
     layout, error = None, None
     for target in (INERTIAL, ROTATING):
         try:
-            layout = read_layout(ds, velocity, height=height, target=target)
+            layout = read_layout(ds, velocity, height=height, target=target, **coordinates)
             break
         except FrameshiftError as exc:
             error = error or exc
@@ -97,7 +100,7 @@ def describe(
         report["sets"] = [_set_report(ds, vset) for vset in layout.sets]
         report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
-    report["operations"] = _operations(ds, velocity, height, celestial, dut1)
+    report["operations"] = _operations(ds, velocity, height, celestial, dut1, coordinates)
     return report
 
 
@@ -160,7 +163,7 @@ def _time_report(ds: xr.Dataset, layout: object) -> dict | None:
 
 
 def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None, height, celestial,
-                dut1) -> dict:
+                dut1, coordinates: Mapping[str, str]) -> dict:
     from frameshift import batch
 
     ops = {}
@@ -168,14 +171,17 @@ def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None, height, cele
         for basis in ("local", "cartesian"):
             label = f"convert --to {to} --basis {basis}"
             if basis == "local":
-                op = batch.convert_operation(to, basis=basis, velocity=velocity, height=height)
+                op = batch.convert_operation(to, basis=basis, velocity=velocity, height=height,
+                                             **coordinates)
             elif to == "inertial":
                 op = batch.convert_operation(to, basis=basis, velocity=velocity, height=height,
-                                             celestial=celestial or "cirs", dut1=dut1 or 0.0)
+                                             celestial=celestial or "cirs", dut1=dut1 or 0.0,
+                                             **coordinates)
             else:  # the file's position and velocity, on the axes it records
                 op = batch.convert_operation(to, basis=basis, celestial=celestial, dut1=dut1)
             ops[label] = _try(op, ds)
-    ops["terms"] = _try(batch.terms_operation(velocity=velocity, height=height), ds)
+    ops["terms"] = _try(batch.terms_operation(velocity=velocity, height=height, **coordinates),
+                        ds)
     return ops
 
 

@@ -117,6 +117,10 @@ def test_inspect_takes_the_options_that_decide(tmp_path, capsys):
     assert report["operations"]["convert --to inertial --basis local"] == "ok"
     assert report["operations"]["terms"] == "ok"
     assert any("given by the caller (--height)" in note for note in report["notes"])
+    # a coordinate option decides too, and its refusal names it
+    assert _run("inspect", DEMO / "shelf_mooring.nc", "--latitude", "nosuch", "--json") == 0
+    report = json.loads(capsys.readouterr().out)[0]
+    assert "--latitude 'nosuch' names no variable" in report["operations"]["terms"]
     assert _run("inspect", tmp_path / "nothing.nc") == 2  # a missing input: usage error
     assert "matches no file" in capsys.readouterr().err
     anonymous = tmp_path / "anonymous.nc"
