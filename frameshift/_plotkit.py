@@ -23,7 +23,8 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.axes import Axes
     from matplotlib.figure import Figure
 
-__all__ = ["LINE_COLOURS", "MAGNITUDE_CMAP", "SIGNED_CMAP", "STYLE", "unit_label"]
+__all__ = ["LINE_COLOURS", "MAGNITUDE_CMAP", "SIGNED_CMAP", "STYLE", "elapsed_time",
+           "unit_label"]
 
 STYLE: dict[str, object] = {
     "font.size": 9.5,
@@ -59,21 +60,24 @@ LINE_COLOURS: dict[str, str] = {
     "euler": "#009E73",
     "curvature": "#CC79A7",
     "total": "#222222",
+    "total_without_centrifugal": "#555555",
     "earth": "#D55E00",
     "inertial": "#0072B2",
 }
 
-_TERM_ORDER = ("coriolis", "centrifugal", "euler", "curvature", "total")
-_TERM_LABELS = {
+_TERM_ORDER = ("coriolis", "centrifugal", "euler", "curvature", "total_without_centrifugal",
+               "total")
+TERM_LABELS = {
     "coriolis": "Coriolis",
     "centrifugal": "centrifugal",
     "euler": "Euler",
     "curvature": "curvature",
     "total": "total",
+    "total_without_centrifugal": "total without centrifugal",
 }
 _TERM_RE = re.compile(r"^(?P<term>\w+?)_(?P<comp>eastward|northward|upward)$")
 _SUPER = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
-_DPI = 120
+DPI = 120
 
 
 # --- small helpers ------------------------------------------------------------------
@@ -89,18 +93,18 @@ def unit_label(units: str, exponent: int = 0) -> str:
     return f"10{str(exponent).translate(_SUPER)} {body}" if exponent else body
 
 
-def _exponent(values: np.ndarray) -> int:
+def power_of_ten(values: np.ndarray) -> int:
     finite = np.abs(values[np.isfinite(values)])
     top = float(finite.max()) if finite.size else 0.0
     return int(np.floor(np.log10(top))) if top > 0 else 0
 
 
-def _caption(fig: Figure, text: str, width_in: float) -> None:
+def add_caption(fig: Figure, text: str, width_in: float) -> None:
     wrapped = textwrap.fill(text, width=int(width_in * 15))
     fig.text(0.01, 0.005, wrapped, ha="left", va="bottom", fontsize=8.5, color="#333333")
 
 
-def _new_figure(size: tuple[float, float], caption_lines: int) -> Figure:
+def new_figure(size: tuple[float, float], caption_lines: int) -> Figure:
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=size, layout="constrained")
@@ -109,16 +113,16 @@ def _new_figure(size: tuple[float, float], caption_lines: int) -> Figure:
     return fig
 
 
-def _lines_needed(text: str, width_in: float) -> int:
+def lines_needed(text: str, width_in: float) -> int:
     return len(textwrap.wrap(text, width=int(width_in * 15)))
 
 
-def _save(fig: Figure, path: str | PathLike | None, dpi: int) -> None:
+def save_figure(fig: Figure, path: str | PathLike | None, dpi: int) -> None:
     if path is not None:
         fig.savefig(path, dpi=dpi, format="png")
 
 
-def _term_names(ds: xr.Dataset, terms: Iterable[str] | None) -> list[str]:
+def term_names(ds: xr.Dataset, terms: Iterable[str] | None) -> list[str]:
     found = {m["term"] for n in ds.data_vars if (m := _TERM_RE.match(str(n)))}
     if terms is not None:
         wanted = list(terms)
@@ -143,7 +147,7 @@ def _term_names(ds: xr.Dataset, terms: Iterable[str] | None) -> list[str]:
     return [t for t in _TERM_ORDER if t in found] + sorted(found - set(_TERM_ORDER))
 
 
-def _coord_by_kind(ds: xr.Dataset, kind: str) -> str:
+def coord_by_kind(ds: xr.Dataset, kind: str) -> str:
     units = criteria.LATITUDE_UNITS if kind == "latitude" else criteria.LONGITUDE_UNITS
     short = {"latitude": "lat", "longitude": "lon"}[kind]
     for name, var in ds.variables.items():
@@ -160,7 +164,7 @@ def _coord_by_kind(ds: xr.Dataset, kind: str) -> str:
     )
 
 
-def _vertical_dim(da: xr.DataArray) -> str | None:
+def vertical_dim(da: xr.DataArray) -> str | None:
     for dim in da.dims:
         if dim not in da.coords:
             continue
@@ -176,7 +180,7 @@ def _vertical_dim(da: xr.DataArray) -> str | None:
     return None
 
 
-def _coord_text(coord: xr.DataArray) -> str:
+def coord_text(coord: xr.DataArray) -> str:
     value = coord.values
     if np.issubdtype(coord.dtype, np.datetime64):
         return np.datetime_as_string(value, unit="m").replace("T", " ") + " UTC"
@@ -186,7 +190,7 @@ def _coord_text(coord: xr.DataArray) -> str:
     return f"{float(value):g} {units}".strip()
 
 
-def _select(da: xr.DataArray, dim: str, value: object) -> xr.DataArray:
+def select_nearest(da: xr.DataArray, dim: str, value: object) -> xr.DataArray:
     """Nearest element of ``da`` along ``dim``; ``value`` may carry units ("250 hPa")."""
     if value is None:
         return da.isel({dim: 0})
@@ -196,21 +200,25 @@ def _select(da: xr.DataArray, dim: str, value: object) -> xr.DataArray:
     return da.sel({dim: value}, method="nearest")
 
 
-def _values(da: xr.DataArray, exponent: int) -> np.ndarray:
+def scaled_values(da: xr.DataArray, exponent: int) -> np.ndarray:
     return np.asarray(da.values, dtype=np.float64) / 10.0**exponent
 
 
-def _edges(centres: np.ndarray, lo: float | None = None, hi: float | None = None) -> np.ndarray:
+def cell_edges(centres: np.ndarray, lo: float | None = None, hi: float | None = None) -> np.ndarray:
     c = np.asarray(centres, dtype=np.float64)
     mid = 0.5 * (c[1:] + c[:-1])
     edges = np.concatenate([[c[0] - (mid[0] - c[0])], mid, [c[-1] + (c[-1] - mid[-1])]])
     return np.clip(edges, lo, hi) if lo is not None else edges
 
 
-def _colour_scale(values: np.ndarray) -> tuple[str, float, float]:
-    """Diverging and symmetric about zero for signed values, else sequential."""
+def colour_scale(values: np.ndarray, signed: bool = False) -> tuple[str, float, float]:
+    """Diverging and symmetric about zero for signed quantities (``signed``, or values of
+    both signs), else sequential."""
     finite = values[np.isfinite(values)]
     lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
+    if signed or lo < 0.0 < hi:
+        top = max(-lo, hi, abs(lo), abs(hi)) or 1.0
+        return SIGNED_CMAP, -top, top
     if lo < 0.0 < hi:
         top = max(-lo, hi)
         return SIGNED_CMAP, -top, top
@@ -219,11 +227,11 @@ def _colour_scale(values: np.ndarray) -> tuple[str, float, float]:
     return MAGNITUDE_CMAP, lo, hi
 
 
-def _is_zero(da: xr.DataArray) -> bool:
+def is_zero(da: xr.DataArray) -> bool:
     return bool(np.all(np.asarray(da.values) == 0.0))
 
 
-def _zero_panel(ax: Axes, title: str, keep_ticks: bool = False) -> None:
+def zero_panel(ax: Axes, title: str, keep_ticks: bool = False) -> None:
     """An empty panel that says its term is zero; without ``keep_ticks``, no y scale."""
     ax.set_title(title)
     ax.text(
@@ -240,29 +248,55 @@ def _zero_panel(ax: Axes, title: str, keep_ticks: bool = False) -> None:
         ax.tick_params(left=False, labelleft=False)
 
 
-def _nonzero_terms(ds: xr.Dataset, terms: list[str], components: Sequence[str]):
+def nonzero_terms(ds: xr.Dataset, terms: list[str], components: Sequence[str]):
     keep, zero = [], []
     for term in terms:
         names = [f"{term}_{c}" for c in components if f"{term}_{c}" in ds]
-        (zero if all(_is_zero(ds[n]) for n in names) else keep).append(term)
+        (zero if all(is_zero(ds[n]) for n in names) else keep).append(term)
     return keep, zero
 
 
-def _zero_note(zero: list[str]) -> str:
+def zero_note(zero: list[str]) -> str:
     if not zero:
         return ""
-    return f" Not drawn, zero everywhere: {', '.join(_TERM_LABELS.get(t, t) for t in zero)}."
+    return f" Not drawn, zero everywhere: {', '.join(TERM_LABELS.get(t, t) for t in zero)}."
 
 
-def _format_time_axis(ax: Axes) -> None:
-    from matplotlib.dates import AutoDateLocator, ConciseDateFormatter
+def elapsed_time(times: xr.DataArray) -> tuple[np.ndarray, str]:
+    """Time as hours (or days, past ten days) since its first value, and the axis label.
 
-    locator = AutoDateLocator(minticks=4, maxticks=8)
-    ax.xaxis.set_major_locator(locator)
-    ax.xaxis.set_major_formatter(ConciseDateFormatter(locator))
+    Works for every CF calendar (datetime64 and cftime values alike), and starts
+    the axis where the data start.
+
+    Examples
+    --------
+    >>> import numpy as np, xarray as xr
+    >>> t = xr.DataArray(np.array(["2030-01-01T00", "2030-01-01T06"], "datetime64[ns]"))
+    >>> elapsed_time(t)
+    (array([0., 6.]), 'hours since 2030-01-01 00:00 (standard calendar)')
+    """
+    values = np.asarray(times.values).ravel()
+    first = values[0]
+    if np.issubdtype(values.dtype, np.datetime64):
+        seconds = (values - first) / np.timedelta64(1, "s")
+        start = np.datetime_as_string(first, unit="m").replace("T", " ")
+        calendar = times.encoding.get("calendar", "standard")
+    else:  # cftime values: differences are datetime.timedelta in their own calendar
+        seconds = np.array([(t - first).total_seconds() for t in values])
+        start = first.strftime("%Y-%m-%d %H:%M")
+        calendar = getattr(first, "calendar", None) or times.encoding.get("calendar", "")
+    seconds = np.asarray(seconds, dtype=np.float64)
+    span = float(np.nanmax(seconds)) if seconds.size else 0.0
+    per, unit = (86400.0, "days") if span > 10 * 86400.0 else (3600.0, "hours")
+    return seconds / per, f"{unit} since {start} ({calendar or 'standard'} calendar)"
 
 
-def _style():
+def _format_time_axis(ax: Axes, t: np.ndarray | None = None) -> None:
+    if t is not None and len(t):
+        ax.set_xlim(float(np.nanmin(t)), float(np.nanmax(t)))  # from where the data start
+
+
+def figure_style():
     """The rc context every figure is built and saved in; the one matplotlib import."""
     try:
         import matplotlib
@@ -273,7 +307,7 @@ def _style():
     return matplotlib.rc_context(STYLE)
 
 
-def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, components, pick):
+def term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, components, pick):
     """Small multiples: a row per term, a column per component; returns the axes."""
     axes = spec.subgridspec(len(draw), len(components)).subplots(sharex=True, squeeze=False)
     for i, term in enumerate(draw):
@@ -284,12 +318,12 @@ def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, component
                 ax.set_axis_off()
                 continue
             da = pick(ds[name])
-            if _is_zero(da):
-                _zero_panel(ax, f"{_TERM_LABELS.get(term, term)}, {comp}")
+            if is_zero(da):
+                zero_panel(ax, f"{TERM_LABELS.get(term, term)}, {comp}")
                 continue
-            t = da[da.dims[0]].values
-            exp = _exponent(np.asarray(da.values, dtype=np.float64))
-            vals = _values(da, exp)
+            t, t_label = elapsed_time(da[da.dims[0]])
+            exp = power_of_ten(np.asarray(da.values, dtype=np.float64))
+            vals = scaled_values(da, exp)
             ax.plot(t, vals, color=LINE_COLOURS.get(term, "#444444"))
             finite = vals[np.isfinite(vals)]
             if finite.size and np.ptp(finite) <= 1e-6 * max(np.abs(finite).max(), 1e-300):
@@ -307,25 +341,24 @@ def _term_grid(fig: Figure, spec, ds: xr.DataArray | xr.Dataset, draw, component
                 )
             elif finite.size and finite.min() < 0 < finite.max():
                 ax.axhline(0.0, color="#777777", lw=0.7, zorder=1)
-            ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}")
+            ax.set_title(f"{TERM_LABELS.get(term, term)}, {comp}")
             ax.set_ylabel(unit_label(ds[name].attrs.get("units", "m s-2"), exp))
-            _format_time_axis(ax)
+            _format_time_axis(ax, t)
             if i == len(draw) - 1:
-                ax.set_xlabel("time (UTC)")
+                ax.set_xlabel(t_label)
     return axes
 
 
-def _section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None:
+def draw_section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None:
     da = da.transpose(vdim, tname, ...)
     da = da.isel(dict.fromkeys(da.dims[2:], 0))
-    exp = _exponent(np.asarray(da.values, dtype=np.float64))
-    vals = _values(da, exp)
-    _, lo, hi = _colour_scale(vals)
+    exp = power_of_ten(np.asarray(da.values, dtype=np.float64))
+    vals = scaled_values(da, exp)
+    _, lo, hi = colour_scale(vals)
     top = max(abs(lo), abs(hi))
     z = da[vdim].values
-    mesh = ax.pcolormesh(
-        da[tname].values, z, vals, cmap=SIGNED_CMAP, vmin=-top, vmax=top, shading="nearest"
-    )
+    t, t_label = elapsed_time(da[tname])
+    mesh = ax.pcolormesh(t, z, vals, cmap=SIGNED_CMAP, vmin=-top, vmax=top, shading="nearest")
     cbar = fig.colorbar(mesh, ax=ax, pad=0.01, aspect=12)
     cbar.set_label(unit_label(da.attrs.get("units", "m s-2"), exp))
     vunits = da[vdim].attrs.get("units", "")
@@ -334,14 +367,15 @@ def _section(fig: Figure, ax: Axes, da: xr.DataArray, tname, vdim, pick) -> None
         ax.invert_yaxis()
     ax.axhline(float(pick(da)[vdim]), color="#222222", ls="--", lw=1.0)
     term, _, comp = str(da.name).rpartition("_")
-    ax.set_title(f"{_TERM_LABELS.get(term, term)}, {comp}, against {vdim} and time")
+    ax.set_title(f"{TERM_LABELS.get(term, term)}, {comp}, against {vdim} and time")
     ax.grid(False)
-    _format_time_axis(ax)
+    ax.set_xlabel(t_label)
+    _format_time_axis(ax, t)
 
 
-def _inertial_period_hours(ds: xr.Dataset, frame: Frame) -> float | None:
+def inertial_period_hours(ds: xr.Dataset, frame: Frame) -> float | None:
     try:
-        lat = ds[_coord_by_kind(ds, "latitude")]
+        lat = ds[coord_by_kind(ds, "latitude")]
     except MissingInputError:
         return None
     if lat.size != 1:
@@ -350,11 +384,12 @@ def _inertial_period_hours(ds: xr.Dataset, frame: Frame) -> float | None:
     return float(2.0 * np.pi / abs(f) / 3600.0) if f else None
 
 
-def _period_bar(ax: Axes, hours: float) -> None:
-    """A bar one inertial period long in the upper left of a time axis."""
-    t0, t1 = ax.get_xlim()  # matplotlib date numbers, in days
+def period_bar(ax: Axes, hours: float) -> None:
+    """A bar one inertial period long in the upper left of an elapsed-time axis."""
+    t0, t1 = ax.get_xlim()  # hours or days since the start (see elapsed_time)
+    per_hour = 1.0 / 24.0 if "days" in ax.get_xlabel() else 1.0
     start = t0 + 0.02 * (t1 - t0)
-    end = start + hours / 24.0
+    end = start + hours * per_hour
     trans = ax.get_xaxis_transform()
     ax.plot(
         [start, end],
@@ -380,7 +415,7 @@ def _period_bar(ax: Axes, hours: float) -> None:
     )
 
 
-def _height_name(ds: xr.Dataset) -> str:
+def height_name(ds: xr.Dataset) -> str:
     for std in ("geopotential_height", "altitude", "height_above_reference_ellipsoid", "height"):
         for name, var in ds.variables.items():
             if var.attrs.get("standard_name") == std and var.ndim > 0:
@@ -393,16 +428,19 @@ def _height_name(ds: xr.Dataset) -> str:
     )
 
 
-def _time_ticks(ax: Axes, lon: np.ndarray, lat: np.ndarray, times: np.ndarray) -> None:
-    t = times.astype("datetime64[s]").astype(np.int64)
+def time_ticks(ax: Axes, lon: np.ndarray, lat: np.ndarray, times: xr.DataArray) -> None:
+    hours, label_text = elapsed_time(times)
+    if "days" in label_text:
+        hours = hours * 24.0
+    t = np.floor(hours * 3600.0).astype(np.int64)
     every = 6 * 3600
     marks = np.flatnonzero(np.diff(t // every, prepend=t[0] // every - 1) != 0)
     for n, i in enumerate(marks):
         ax.plot(lon[i], lat[i], "|", color="#222222", ms=8, mew=1.2, zorder=3)
         if n % 4 == 0:
-            label = np.datetime_as_string(times[i], unit="h").replace("T", " ") + "Z"
+            label = f"+{hours[i]:.0f} h"
             ax.annotate(
-                label[5:],
+                label,
                 (lon[i], lat[i]),
                 xytext=(0, 7),
                 textcoords="offset points",

@@ -37,6 +37,7 @@ from frameshift.errors import (
 from frameshift.options import check_dut1, check_height, check_terms, check_velocity_set
 from frameshift.paths import Job, find_inputs, plan_jobs, printable
 from frameshift.signals import Terminated, sigterm_as_interrupt
+from frameshift.storage import output_format, with_format_suffix
 
 __all__ = [
     "OPERATIONS",
@@ -112,8 +113,22 @@ class Operation:
 def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     from frameshift.transforms import to_inertial, to_rotating
 
-    settings = _named_frame(ds, settings)
-    return (to_inertial if to == "inertial" else to_rotating)(ds, **settings)
+    s = _named_frame(ds, dict(settings))
+    from frameshift.transforms.cartesian import DUT1_ATTR, is_cartesian, recorded
+
+    if s.get("basis") == "auto":  # what the file says it holds
+        s["basis"] = "cartesian" if is_cartesian(ds) else "local"
+    if s.get("celestial", "cirs") is None:  # the axes a Cartesian file records
+        s["celestial"] = recorded(ds, "inertial_axes", "cirs").lower() if to == "rotating" \
+            else None
+        if s["celestial"] is None:
+            s.pop("celestial")  # the frame's own default axes
+    if s.get("dut1", 0.0) is None:  # the UT1 - UTC a Cartesian file was made with
+        s["dut1"] = float(recorded(ds, DUT1_ATTR, 0.0)) if to == "rotating" else 0.0
+    if s.get("basis") == "local":
+        s.pop("celestial", None)
+        s.pop("dut1", None)
+    return (to_inertial if to == "inertial" else to_rotating)(ds, **s)
 
 
 def _named_frame(ds: xr.Dataset, settings: dict) -> dict:
@@ -125,10 +140,21 @@ def _named_frame(ds: xr.Dataset, settings: dict) -> dict:
     return settings
 
 
-def _terms(ds: xr.Dataset, **settings) -> xr.Dataset:
+def _terms(ds: xr.Dataset, *, keep_input: bool = False, **settings) -> xr.Dataset:
     result = _accelerations()(ds, **_named_frame(ds, settings))
     attrs = {**ds.attrs, **result.attrs}
     set_conventions(attrs)
+    if keep_input:  # the input's variables as they were, the terms beside them
+        clash = sorted(set(result.data_vars) & set(ds.variables))
+        if clash:
+            raise ConventionError(
+                f"the input already has variables named like the terms ({clash}); "
+                "they cannot be kept beside them",
+                variable=clash[0],
+                expected="no input variable named like a term",
+                found=", ".join(clash),
+            )
+        return ds.assign(dict(result.data_vars)).assign_attrs(attrs)
     return result.assign_attrs(attrs)
 
 
@@ -140,15 +166,19 @@ def convert_operation(
     to: str = "inertial",
     *,
     basis: str = "local",
-    celestial: str = "cirs",
+    celestial: str | None = "cirs",
     velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
-    dut1: float = 0.0,
+    dut1: float | None = 0.0,
     frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls :func:`frameshift.to_inertial` or :func:`frameshift.to_rotating`.
 
+    ``basis="auto"`` takes the basis from each file (Cartesian positions and
+    velocities on a ``component`` axis, or local components); ``celestial=None``
+    and ``dut1=None`` take the inertial axes (``inertial_axes``) and the UT1 - UTC
+    (``ut1_minus_utc_seconds``) a Cartesian file records when converting back.
     ``frame`` names the frame (:func:`frameshift.frames.named.frame_from_name`:
     ``"mars"``, ``"table:10 rpm"``, ``"table:<rate variable>"``...); default the Earth.
 
@@ -158,12 +188,17 @@ def convert_operation(
     'cartesian'
     """
     check_choice("to", to, ("inertial", "rotating"))
-    check_choice("basis", basis, ("local", "cartesian"))
-    check_choice("celestial", celestial, ("cirs", "gcrs"))
-    check_dut1(dut1)
+    check_choice("basis", basis, ("local", "cartesian", "auto"))
+    if celestial is not None:
+        from frameshift.frames.celestial import CELESTIAL_AXES
+
+        check_choice("celestial", celestial, CELESTIAL_AXES)
+    if dut1 is not None:
+        check_dut1(dut1)
     check_height(height)
     settings = {"to": to, "basis": basis, "celestial": celestial, "velocity": _mapping(velocity),
-                "height": height, "dut1": float(dut1), **_coordinate_settings(coordinates)}
+                "height": height, "dut1": None if dut1 is None else float(dut1),
+                **_coordinate_settings(coordinates)}
     if frame is not None:
         settings["frame"] = str(frame)
     return Operation("convert", settings)
@@ -176,12 +211,16 @@ def terms_operation(
     velocity: Mapping[str, str] | Sequence[Mapping[str, str]] | None = None,
     height: float | str | None = None,
     include_parameters: bool = False,
+    totals: Sequence[str] = ("full",),
+    keep_input: bool = False,
     frame: str | None = None,
     **coordinates: str,
 ) -> Operation:
     """An operation that calls ``frameshift.apparent_accelerations``.
 
-    ``frame`` names the frame as for :func:`convert_operation`.
+    ``keep_input=True`` writes the input's variables, as they were, beside the
+    terms, so that a budget needs one file. ``frame`` names the frame as for
+    :func:`convert_operation`.
 
     Examples
     --------
@@ -193,8 +232,8 @@ def terms_operation(
     check_height(height)
     settings = {"terms": list(terms) if terms else None, "traditional": bool(traditional),
                 "velocity": _mapping(velocity), "height": height,
-                "include_parameters": bool(include_parameters),
-                **_coordinate_settings(coordinates)}
+                "include_parameters": bool(include_parameters), "totals": list(totals),
+                "keep_input": bool(keep_input), **_coordinate_settings(coordinates)}
     if frame is not None:
         settings["frame"] = str(frame)
     return Operation("terms", settings)
@@ -265,6 +304,8 @@ class RunOptions:
     command: str = "frameshift"
     verify: bool = False  # check outputs against their recorded checksum before skipping
     progress: bool | None = None  # None: only when stderr is a terminal and not quiet
+    precision: str = "input"  # storage of computed variables: the input's, or "float64"
+    output_format: str | None = None  # "netcdf" or "zarr"; None: by the output's suffix
 
     def show_progress(self) -> bool:
         if self.quiet:
@@ -441,7 +482,9 @@ def process(
 
     ``KeyboardInterrupt`` is not caught: it propagates once the temporary file is gone.
     """
-    settings = {"command": operation.command, **operation.settings}
+    fmt = output_format(job.output, options.output_format)
+    settings = {"command": operation.command, **operation.settings,
+                "precision": options.precision, "format": fmt}
     start = time.perf_counter()
     if not options.overwrite:
         current, why = io.is_current(job.output, job.inputs, settings, verify=options.verify)
@@ -453,20 +496,20 @@ def process(
             result = operation.apply(ds)
             sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
-            to_write, _ = io.prepare_output(result, ds, raw)
+            to_write, _ = io.prepare_output(result, ds, raw, precision=options.precision,
+                                            target=fmt)
             io.manifest_path(job.output).unlink(missing_ok=True)
             manifest = {"inputs": job.inputs, "settings": settings,
                         "command": options.command, "checksum": options.verify}
-            io.write_atomic(to_write, job.output, manifest=manifest,
-                            compute=_computer(client, bar_factory or _no_bar))
+            write = io.write_store_atomic if fmt == "zarr" else io.write_atomic
+            write(to_write, job.output, manifest=manifest,
+                  compute=_computer(client, bar_factory or _no_bar))
         finally:
             ds.close()
             if raw is not None:
                 raw.close()
     except FrameshiftError as exc:
         reason = _one_line(exc)
-        if exc.variable == "velocity" and "velocity=" in reason:
-            reason += " (on the command line: --velocity eastward=NAME,northward=NAME)"
         return Outcome(job, "failed", reason, exc.variable, exc.expected, exc.found,
                        time.perf_counter() - start)
     except OSError as exc:  # the file system, said plainly
@@ -547,6 +590,9 @@ def run(
             pass
     jobs = plan_jobs(paths, options.out_dir, combine=options.combine,
                      combined_name=options.combined_name)
+    if options.output_format is not None:
+        jobs = [Job(j.inputs, with_format_suffix(j.output, options.output_format))
+                for j in jobs]
     safefiles.check_writable(options.out_dir)
     removed = safefiles.remove_stale(job.output for job in jobs)
     summary = Summary()

@@ -12,19 +12,34 @@ from __future__ import annotations
 import argparse
 import shlex
 import sys
-from collections.abc import Mapping, Sequence
+from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from frameshift.errors import ConventionError, FrameshiftError
 from frameshift.paths import printable
+from frameshift.report import cli_wording, describe
 
 if TYPE_CHECKING:
-    import xarray as xr
 
-    from frameshift.batch import Operation, RunOptions
+    from frameshift.batch import RunOptions
 
-__all__ = ["build_parser", "describe", "main", "parse_height", "parse_velocity"]
+__all__ = ["build_parser", "check_usage", "cli_wording", "describe", "failure_line", "main",
+           "parse_height", "parse_terms", "parse_velocity"]
+
+#: The term names ``--terms`` takes (as frameshift.accelerations.TERMS).
+TERM_NAMES = ("coriolis", "centrifugal", "euler", "curvature")
+#: Storage precisions ``--precision`` takes (as frameshift.storage.PRECISIONS).
+PRECISIONS = ("input", "float64")
+_TOTAL_CHOICES = ("full", "without-centrifugal", "both", "none")
+_TOTALS = {"full": ("full",), "without-centrifugal": ("without_centrifugal",),
+           "both": ("full", "without_centrifugal"), "none": ()}
+#: Command-line options that a refusal's ``variable`` can name.
+_OPTIONS = {"terms": "--terms", "totals": "--totals", "celestial": "--celestial",
+            "dut1": "--dut1", "height": "--height", "velocity": "--velocity",
+            "memory": "--memory", "workers": "--workers", "scheduler": "--scheduler",
+            "out": "--out", "precision": "--precision", "format": "--format",
+            "basis": "--basis", "to": "--to", "inputs": "INPUT"}
 
 _EPILOG_CONVERT = """\
 examples:
@@ -100,6 +115,23 @@ def _velocity_argument(text: str) -> dict[str, str]:
         raise argparse.ArgumentTypeError(str(exc)) from exc
 
 
+def parse_terms(text: str) -> list[str]:
+    """Read ``coriolis,curvature`` into a list of term names, refusing unknown ones.
+
+    Examples
+    --------
+    >>> parse_terms("coriolis, curvature")
+    ['coriolis', 'curvature']
+    """
+    names = [t.strip() for t in text.split(",") if t.strip()]
+    unknown = [t for t in names if t not in TERM_NAMES]
+    if unknown or not names:
+        raise argparse.ArgumentTypeError(
+            f"unknown term(s) {', '.join(unknown) or '(none given)'}; choose from "
+            f"{', '.join(TERM_NAMES)}")
+    return names
+
+
 def parse_height(text: str | None) -> float | str | None:
     """A height in metres, or the name of the variable holding it.
 
@@ -120,7 +152,8 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
     from frameshift.io import default_memory
 
     parser.add_argument("inputs", nargs="+", metavar="INPUT",
-                        help="NetCDF files, glob patterns or directories (searched for *.nc)")
+                        help="NetCDF files, Zarr stores (*.zarr), glob patterns or directories "
+                        "(searched for *.nc and *.zarr)")
     if not writes:
         return
     parser.add_argument("--out", required=True, metavar="DIR",
@@ -142,12 +175,20 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
     parser.add_argument("--combine", action="store_true",
                         help="open all inputs together as one dataset along time and write "
                         "one output (--combined-name)")
-    parser.add_argument("--combined-name", default="combined.nc", metavar="NAME",
-                        help="file name of the --combine output (default combined.nc)")
+    parser.add_argument("--combined-name", default=None, metavar="NAME",
+                        help="file name of the --combine output (default combined.nc; "
+                        "combined.zarr with --format zarr)")
     parser.add_argument("--checksum", action="store_true",
                         help="record a SHA-256 of each output in its manifest, and on re-runs "
                         "redo any output whose bytes no longer match it (default: trust size "
                         "and modification time)")
+    parser.add_argument("--precision", choices=PRECISIONS, default="input",
+                        help="how computed variables are stored: 'input' (the input's "
+                        "precision: float32 from float32 or packed 16-bit integers, else "
+                        "float64) or 'float64'; computing is always float64 (default input)")
+    parser.add_argument("--format", choices=("netcdf", "zarr"), default=None, dest="format",
+                        help="output format: 'netcdf' (*.nc files) or 'zarr' (*.zarr "
+                        "directory stores, needs the zarr extra); default: the input's")
 
 
 def _velocity_options(parser: argparse.ArgumentParser) -> None:
@@ -197,15 +238,21 @@ def build_parser() -> argparse.ArgumentParser:
                           "Earth-rotating frame and the inertial frame.",
                           epilog=_EPILOG_CONVERT, formatter_class=fmt)
     _common(conv)
+    conv.set_defaults(subparser=conv)
     conv.add_argument("--to", choices=("inertial", "rotating"), default="inertial",
                       help="frame to convert to (default inertial)")
-    conv.add_argument("--basis", choices=("local", "cartesian"), default="local",
-                      help="local east/north/up axes, or inertial x/y/z position and velocity "
-                      "(default local)")
-    conv.add_argument("--celestial", choices=("cirs", "gcrs"), default="cirs",
-                      help="inertial axes for --basis cartesian (default cirs)")
-    conv.add_argument("--dut1", type=float, default=0.0, metavar="SECONDS",
-                      help="UT1 - UTC in seconds for --basis cartesian (default 0)")
+    conv.add_argument("--basis", choices=("local", "cartesian"), default=None,
+                      help="local: east/north/up components on the same local axes; "
+                      "cartesian: inertial x/y/z position and velocity (variables 'position' "
+                      "and 'velocity' on a 'component' axis). Default: local for --to "
+                      "inertial; for --to rotating, what each file holds")
+    conv.add_argument("--celestial", choices=("cirs", "gcrs"), default=None,
+                      help="inertial axes of the Cartesian basis: cirs (Earth rotation angle "
+                      "only) or gcrs (also precession-nutation; needs pyerfa). Default cirs; "
+                      "for --to rotating, the axes the file records")
+    conv.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
+                      help="UT1 - UTC in seconds, within [-1, 1], for the Cartesian basis "
+                      "(default 0)")
     _velocity_options(conv)
 
     terms = sub.add_parser("terms", help="write apparent-acceleration terms (m s-2)",
@@ -213,12 +260,28 @@ def build_parser() -> argparse.ArgumentParser:
                            "adds (one variable per term and component, and their total).",
                            epilog=_EPILOG_TERMS, formatter_class=fmt)
     _common(terms)
-    terms.add_argument("--terms", default=None, metavar="NAME[,NAME...]",
-                       help="comma-separated terms to write (default: all)")
+    terms.set_defaults(subparser=terms)
+    terms.add_argument("--terms", default=None, type=parse_terms, metavar="NAME[,NAME...]",
+                       help="comma-separated terms to write, of: " + ", ".join(TERM_NAMES)
+                       + " (default: all four)")
     terms.add_argument("--traditional", action="store_true",
-                       help="use the traditional approximation (horizontal Coriolis only)")
+                       help="the traditional (shallow-fluid) approximation: drop the 2 Omega "
+                       "cos(lat) Coriolis terms (-2 Omega cos(lat) w eastward, 2 Omega "
+                       "cos(lat) u upward) and the curvature terms in w or upward (-u w/(N+h), "
+                       "-v w/(M+h), u^2/(N+h) + v^2/(M+h)); the upward Coriolis and curvature "
+                       "components become 0. Changes coriolis and curvature only")
+    terms.add_argument("--totals", choices=_TOTAL_CHOICES, default="full",
+                       help="sums to write: full (total_*: every term written, what closes "
+                       "the budget of a free body), without-centrifugal "
+                       "(total_without_centrifugal_*: for use beside an effective gravity "
+                       "that already holds the centrifugal term), both, or none "
+                       "(default full)")
+    terms.add_argument("--keep-input", action="store_true",
+                       help="write the input's variables, unchanged, beside the terms (one "
+                       "file for a momentum budget)")
     terms.add_argument("--include-parameters", action="store_true",
-                       help="also write the parameters the terms are made of")
+                       help="also write coriolis_parameter (2 Omega sin(lat)) and "
+                       "reciprocal_coriolis_parameter (2 Omega cos(lat))")
     _velocity_options(terms)
 
     from frameshift.instruments import command as earth_command
@@ -242,9 +305,13 @@ def build_parser() -> argparse.ArgumentParser:
                           "operations it would refuse and why. Reads only metadata.",
                           epilog=_EPILOG_INSPECT, formatter_class=fmt)
     _common(insp, writes=False)
-    insp.add_argument("--velocity", type=_velocity_argument, action="append", default=None,
-                      metavar="eastward=U,northward=V[,upward=W]",
-                      help="name the velocity components instead of finding them")
+    insp.set_defaults(subparser=insp)
+    _velocity_options(insp)
+    insp.add_argument("--celestial", choices=("cirs", "gcrs"), default=None,
+                      help="inertial axes to check the Cartesian conversions with (default: "
+                      "cirs, or the axes a Cartesian file records)")
+    insp.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
+                      help="UT1 - UTC in seconds to check the Cartesian conversions with")
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
 
     demo = sub.add_parser("demo", help="run frameshift on the bundled invented demo data",
@@ -263,6 +330,9 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
     from frameshift.batch import RunOptions
     from frameshift.io import default_memory, parse_memory
 
+    combined = args.combined_name
+    if combined is None:
+        combined = "combined.zarr" if args.format == "zarr" else "combined.nc"
     return RunOptions(
         out_dir=Path(args.out),
         overwrite=args.overwrite,
@@ -272,10 +342,50 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
         workers=args.workers,
         scheduler=args.scheduler,
         combine=args.combine,
-        combined_name=args.combined_name,
+        combined_name=combined,
         command=command,
         verify=args.checksum,
+        precision=args.precision,
+        output_format=args.format,
     )
+
+
+def check_usage(parser: argparse.ArgumentParser, args: argparse.Namespace) -> None:
+    """Refuse options that would do nothing in the mode chosen (a usage error, exit 2).
+
+    Examples
+    --------
+    >>> parser = build_parser()
+    >>> check_usage(parser, parser.parse_args(["convert", "a.nc", "--out", "o"]))
+    """
+    useless: list[str] = []
+    if args.command in ("convert", "terms"):
+        if args.combined_name is not None and not args.combine:
+            useless.append("--combined-name names the output of --combine, which is not given")
+        if args.workers is not None and args.scheduler is not None:
+            useless.append("--workers starts a local cluster and --scheduler uses a running "
+                           "one: give one of them")
+    if getattr(args, "dut1", None) is not None and not abs(args.dut1) <= 1.0:
+        useless.append(f"--dut1 {args.dut1:g}: UT1 - UTC is kept within 0.9 s; give seconds "
+                       "in [-1, 1]")
+    if args.command == "convert":
+        local = args.basis == "local" or (args.basis is None and args.to == "inertial")
+        for option, value in (("--celestial", args.celestial), ("--dut1", args.dut1)):
+            if value is not None and local:
+                useless.append(f"{option} sets the Cartesian basis, and the basis is local "
+                               "(add --basis cartesian, or leave it out)")
+        if args.to == "rotating" and args.basis == "cartesian":
+            for option, value in (("--velocity", args.velocity), ("--height", args.height)):
+                if value is not None:
+                    useless.append(f"{option} does not apply to --to rotating --basis "
+                                   "cartesian: the file's position and velocity say it all")
+    if args.command == "terms":
+        chosen = set(args.terms or TERM_NAMES)
+        if args.traditional and not chosen & {"coriolis", "curvature"}:
+            useless.append("--traditional changes only the coriolis and curvature terms, "
+                           f"and --terms asks for {','.join(args.terms)}")
+    if useless:
+        getattr(args, "subparser", parser).error("; ".join(useless))
 
 
 def _run_batch(args: argparse.Namespace, command: str) -> int:
@@ -291,8 +401,9 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
 
         operation = operation_from_args(args)
     elif args.command == "convert":
+        basis = args.basis or ("local" if args.to == "inertial" else "auto")
         operation = batch.convert_operation(
-            args.to, basis=args.basis, celestial=args.celestial, velocity=args.velocity,
+            args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
             height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
         )
     elif args.command == "momentum":
@@ -300,19 +411,40 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
 
         operation = operation_from_args(args)
     else:
-        names = [t.strip() for t in args.terms.split(",") if t.strip()] if args.terms else None
         operation = batch.terms_operation(
-            names, traditional=args.traditional, velocity=args.velocity,
+            args.terms, traditional=args.traditional, velocity=args.velocity,
             height=parse_height(args.height), include_parameters=args.include_parameters,
-            **_coordinates(args),
+            totals=_TOTALS[args.totals], keep_input=args.keep_input, **_coordinates(args),
         )
     summary = batch.run(args.inputs, operation, _options(args, command))
     failed = [o for o in summary.outcomes if o.status in ("failed", "interrupted")]
     if not args.quiet or failed:
         print(f"frameshift {args.command}: {summary.totals()}", file=sys.stderr)
     for outcome in failed:
-        print(outcome.line(), file=sys.stderr)
+        print(failure_line(outcome), file=sys.stderr)
     return summary.exit_code
+
+
+def failure_line(outcome: object) -> str:
+    """A failed outcome in command-line words: the option it concerns, or the variable.
+
+    Examples
+    --------
+    >>> from pathlib import Path
+    >>> from frameshift.batch import Job, Outcome
+    >>> o = Outcome(Job((Path("a.nc"),), Path("o/a.nc")), "failed", "terms= has no terms",
+    ...             variable="terms")
+    >>> failure_line(o)
+    'FAILED a.nc (option --terms): --terms has no terms'
+    """
+    source = ", ".join(map(str, outcome.job.inputs))
+    name = outcome.variable
+    where = ""
+    if name in _OPTIONS:
+        where = f" (option {_OPTIONS[name]})"
+    elif name:
+        where = f" (variable {name!r})"
+    return printable(f"{outcome.status.upper()} {source}{where}: {cli_wording(outcome.reason)}")
 
 
 def _coordinates(args: argparse.Namespace) -> dict[str, str]:
@@ -324,6 +456,9 @@ def _coordinates(args: argparse.Namespace) -> dict[str, str]:
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit status.
 
+    Exit status: 0 when every file succeeded, 1 when a file failed, 2 for a
+    usage error (an unknown or useless option, a bad value), 130 when interrupted.
+
     Examples
     --------
     >>> main(["--version"])  # doctest: +SKIP
@@ -332,245 +467,27 @@ def main(argv: Sequence[str] | None = None) -> int:
     args_list = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     args = parser.parse_args(args_list)
+    check_usage(parser, args)
     command = shlex.join(["frameshift", *args_list])
     try:
         if args.command in ("convert", "terms", "momentum", "earth"):
             return _run_batch(args, command)
         if args.command == "inspect":
-            return _inspect(args.inputs, velocity=args.velocity, as_json=args.json)
+            from frameshift.report import inspect_files
+
+            return inspect_files(args.inputs, velocity=args.velocity, as_json=args.json,
+                            settings={"height": parse_height(args.height),
+                                      "celestial": args.celestial, "dut1": args.dut1,
+                                      **_coordinates(args)})
         from frameshift import demo
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code
     except FrameshiftError as exc:
-        message = printable(" ".join(str(exc).split()))
-        print(f"frameshift {args.command}: error: {message}", file=sys.stderr)
+        option = _OPTIONS.get(getattr(exc, "variable", None) or "")
+        where = f" ({option})" if option and option != "INPUT" else ""
+        print(f"frameshift {args.command}: error{where}: {printable(cli_wording(str(exc)))}",
+              file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print(f"frameshift {args.command}: interrupted", file=sys.stderr)
         return 130
-
-
-# --- inspect ----------------------------------------------------------------------------
-def describe(ds: xr.Dataset, velocity: Mapping[str, str] | None = None) -> dict:
-    """What frameshift finds in ``ds`` and what each operation would do with it.
-
-    Detection is :func:`frameshift.detect.find_layout`; whether an operation
-    would be refused is found by running it lazily (no data are computed) and
-    keeping its error.
-
-    Examples
-    --------
-    >>> import xarray as xr
-    >>> describe(xr.open_dataset("data_demo/tiny_example.nc"))["velocity"]  # doctest: +SKIP
-    {'family': 'wind', 'eastward': {...}, ...}
-    """
-    from frameshift.detect import INERTIAL, ROTATING, read_layout
-
-    report: dict = {"dimensions": {str(k): int(v) for k, v in ds.sizes.items()}}
-    layout, error = None, None
-    for target in (INERTIAL, ROTATING):
-        try:
-            layout = read_layout(ds, velocity, target=target)
-            break
-        except FrameshiftError as exc:
-            error = error or exc
-    cartesian = _cartesian_report(ds)
-    if cartesian is not None:
-        report["cartesian"] = cartesian
-    if layout is None:
-        report["velocity"] = {"refused": _reason(error)}
-    else:
-        report["sets"] = [_set_report(ds, vset) for vset in layout.sets]
-        report.update(report["sets"][0])  # the first set, as single-set reports had it
-    report["time"] = _time_report(ds, layout)
-    report["operations"] = _operations(ds, velocity)
-    problem = _position_problem(ds, layout)
-    if problem:  # the operations would fail on these values when they compute
-        report["operations"] = {k: f"refused: {problem}" if v == "ok" else v
-                                for k, v in report["operations"].items()}
-    return report
-
-
-def _position_problem(ds: xr.Dataset, layout: object) -> str | None:
-    """The refusal the position values would give, computed (coordinates are small)."""
-    if layout is None:
-        return None
-    import dask
-
-    from frameshift import EARTH
-    from frameshift.detect import floor_of, height_values, position_values
-
-    try:
-        for vset in layout.sets:
-            values = list(position_values(ds, vset.position))
-            vertical = vset.position.vertical
-            if vertical is None or vertical in ds.coords:  # a data variable may be large
-                values.append(height_values(ds, vset.position, floor=floor_of(EARTH)))
-            dask.compute(*values)
-    except FrameshiftError as exc:
-        return " ".join(str(exc).split())
-    return None
-
-
-def _set_report(ds: xr.Dataset, vset) -> dict:
-    """One velocity set: components, position, vertical and assumptions."""
-    comps = {}
-    for comp, name in vset.items():
-        attrs = ds[name].attrs
-        comps[comp] = {
-            "variable": name,
-            "units": attrs.get("units"),
-            "standard_name": attrs.get("standard_name")
-            or attrs.get("standard_name_in_rotating_frame"),
-            "frame": attrs.get("reference_frame", "rotating (implied by standard_name)"),
-            "dims": list(map(str, ds[name].dims)),
-        }
-    pos = vset.position
-    vertical = pos.vertical
-    return {
-        "velocity": {"family": vset.family, **comps},
-        "position": {
-            axis: {"variable": name, "dims": list(map(str, ds[name].dims))}
-            for axis, name in (("latitude", pos.latitude), ("longitude", pos.longitude))
-            if name is not None
-        },
-        "vertical": (
-            {"variable": vertical, "units": ds[vertical].attrs.get("units"),
-             "standard_name": ds[vertical].attrs.get("standard_name"),
-             "sign": pos.vertical_sign}
-            if vertical else None
-        ),
-        "time_variable": pos.time,
-        "notes": list(vset.notes),
-    }
-
-
-def _cartesian_report(ds: xr.Dataset) -> dict | None:
-    """Inertial position/velocity on x, y, z axes, as ``--basis cartesian`` writes them."""
-    names = [n for n in ("position", "velocity")
-             if n in ds.data_vars and "component" in ds[n].dims]
-    if not names:
-        return None
-    return {n: {"units": ds[n].attrs.get("units"),
-                "frame": ds[n].attrs.get("reference_frame"),
-                "axes": ds[n].attrs.get("inertial_axes")} for n in names}
-
-
-def _time_report(ds: xr.Dataset, layout: object) -> dict | None:
-    from frameshift.detect import find_time
-
-    name = layout.time if layout is not None else find_time(ds)
-    if name is None:
-        return None
-    enc = ds[name].encoding
-    values = ds[name].values
-    return {"variable": name, "units": enc.get("units"),
-            "calendar": enc.get("calendar", "standard"), "size": int(values.size),
-            "first": str(values.min()) if values.size else None,
-            "last": str(values.max()) if values.size else None}
-
-
-def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None) -> dict:
-    from frameshift import batch
-
-    ops = {}
-    for to in ("inertial", "rotating"):
-        for basis in ("local", "cartesian"):
-            label = f"convert --to {to} --basis {basis}"
-            vel = velocity if not (to == "rotating" and basis == "cartesian") else None
-            ops[label] = _try(batch.convert_operation(to, basis=basis, velocity=vel), ds)
-    ops["terms"] = _try(batch.terms_operation(velocity=velocity), ds)
-    return ops
-
-
-def _try(operation: Operation, ds: xr.Dataset) -> str:
-    try:
-        operation.apply(ds)
-    except FrameshiftError as exc:
-        return "refused: " + " ".join(str(exc).split())
-    except (ValueError, TypeError, KeyError) as exc:
-        return f"refused: {type(exc).__name__}: {' '.join(str(exc).split())}"
-    return "ok"
-
-
-def _reason(exc: BaseException | None) -> str:
-    text = " ".join(str(exc).split())
-    if getattr(exc, "variable", None):
-        text += f" [variable={exc.variable}; expected {exc.expected}; found {exc.found}]"
-    return text
-
-
-def _inspect(inputs: Sequence[str], *, velocity: Mapping[str, str] | None = None,
-             as_json: bool = False) -> int:
-    import json
-
-    from frameshift.batch import find_inputs
-    from frameshift.io import open_input
-
-    reports, status = [], 0
-    for file, _ in find_inputs(inputs):
-        entry: dict = {"file": str(file)}
-        try:
-            ds, raw = open_input(file)
-            raw.close()
-            with ds:
-                entry.update(describe(ds, velocity))
-        except (OSError, ValueError, TypeError) as exc:
-            entry["error"] = f"{type(exc).__name__}: {' '.join(str(exc).split())}"
-            status = 1
-        reports.append(entry)
-    if as_json:
-        print(json.dumps(reports, indent=1, default=str))
-    else:
-        for entry in reports:
-            print("\n".join(map(printable, _text(entry).split("\n"))))
-    return status
-
-
-def _set_text(entry: dict) -> list[str]:
-    vel = entry["velocity"]
-    lines = [f"  velocity ({vel['family']}):"]
-    for comp in ("eastward", "northward", "upward"):
-        if comp in vel:
-            c = vel[comp]
-            lines.append(f"    {comp:9s} {c['variable']} [{c['units']}] "
-                         f"{c['standard_name'] or '-'}; frame: {c['frame']}")
-    pos = entry["position"]
-    lines.append("  position: " + ", ".join(
-        f"{k} {v['variable']}{tuple(v['dims']) or ' (scalar)'}" for k, v in pos.items()))
-    vert = entry["vertical"]
-    lines.append("  vertical: " + (
-        f"{vert['variable']} [{vert['units']}] {vert['standard_name'] or ''}".rstrip()
-        if vert else "none"))
-    for note in entry["notes"]:
-        lines.append(f"  assumes: {note}")
-    return lines
-
-
-def _text(entry: dict) -> str:
-    lines = [entry["file"]]
-    if "error" in entry:
-        return "\n".join([*lines, f"  cannot read: {entry['error']}"])
-    dims = ", ".join(f"{k}={v}" for k, v in entry["dimensions"].items())
-    lines.append(f"  dimensions: {dims}")
-    vel = entry["velocity"]
-    for name, c in entry.get("cartesian", {}).items():
-        lines.append(f"  {name} [{c['units']}] relative to the {c['frame']} frame "
-                     f"on {c['axes']} x/y/z axes")
-    if "refused" in vel:
-        if "cartesian" not in entry:  # a Cartesian file has no east/north velocity, rightly
-            lines.append(f"  velocity: none usable: {vel['refused']}")
-    else:
-        sets = entry.get("sets", [entry])
-        if len(sets) > 1:
-            lines.append(f"  {len(sets)} velocity sets (each converted by convert and terms):")
-        for one in sets:
-            lines.extend(_set_text(one))
-    t = entry["time"]
-    lines.append("  time: " + (
-        f"{t['variable']} ({t['size']} values, {t['first']} to {t['last']}, "
-        f"calendar {t['calendar']})" if t else "none"))
-    lines.append("  operations:")
-    for label, verdict in entry["operations"].items():
-        lines.append(f"    {label}: {verdict}")
-    return "\n".join(lines)

@@ -212,12 +212,18 @@ def _operation(step: str, name: str) -> batch.Operation:
         operation = batch.convert_operation("inertial", basis="cartesian", velocity=velocity,
                                             frame=frame)
     else:
-        operation = batch.terms_operation(velocity=velocity, frame=frame)
+        operation = batch.terms_operation(velocity=velocity, frame=frame,
+                                          totals=("full", "without_centrifugal"))
     if name in _EARTH_FIRST:
         from frameshift.instruments.command import earth_first
 
         return earth_first(_EARTH_FIRST[name], operation)
     return operation
+
+
+#: The terms the demo's figures draw: those that carry dynamics. The centrifugal term
+#: (a steady, latitude-only pull counted in effective gravity) would fill the total.
+DYNAMIC_TERMS = ("coriolis", "curvature", "total_without_centrifugal")
 
 
 def demo_files(data: Path) -> list[Path]:
@@ -301,7 +307,9 @@ def _convert(file: Path, step: str, out_dir: Path, options: batch.RunOptions,
         return DemoRow(file.name, step, outcome.status, job.output, seconds=outcome.seconds)
     expected = _REFUSED_BY_DESIGN.get((file.name, step))
     status = "refused" if expected == (outcome.variable, outcome.found) else "failed"
-    return DemoRow(file.name, step, status, None, outcome.reason, outcome.seconds)
+    from frameshift.report import cli_wording
+
+    return DemoRow(file.name, step, status, None, cli_wording(outcome.reason), outcome.seconds)
 
 
 def _counts(rows: list[DemoRow]) -> str:
@@ -334,14 +342,14 @@ def _term_maps(out: Path, data: Path, path: Path) -> None:
     from frameshift.plotting import plot_term_maps
 
     with xr.open_dataset(out / "terms" / "global_winds.nc") as terms:
-        plot_term_maps(terms, "250 hPa", path=path)
+        plot_term_maps(terms, "250 hPa", terms=DYNAMIC_TERMS, path=path)
 
 
 def _mooring_series(out: Path, data: Path, path: Path) -> None:
     from frameshift.plotting import plot_terms_timeseries
 
     with xr.open_dataset(out / "terms" / "shelf_mooring.nc") as terms:
-        plot_terms_timeseries(terms, "10 m", path=path)
+        plot_terms_timeseries(terms, "10 m", terms=DYNAMIC_TERMS, path=path)
 
 
 def _zonal_mean(out: Path, data: Path, path: Path) -> None:
@@ -357,7 +365,7 @@ def _track_terms(out: Path, data: Path, path: Path) -> None:
 
     # the terms output keeps the track's latitude, longitude and time as coordinates
     with xr.open_dataset(out / "terms" / "balloon_track.nc") as terms:
-        plot_track_terms(terms, terms, path=path)
+        plot_track_terms(terms, terms, terms=DYNAMIC_TERMS, path=path)
 
 
 #: (file name, data set, title, sources relative to out (or "data:" for the input), drawer)

@@ -27,16 +27,27 @@ import numpy as np
 import xarray as xr
 
 from frameshift import safefiles
-from frameshift.cf import float_encoding
-from frameshift.errors import ConventionError
+from frameshift.errors import ConventionError, MissingInputError, UnsupportedInputError
+from frameshift.storage import (
+    DISK_CHUNK_BYTES,
+    decode_labels,
+    disk_chunks,
+    encode_labels,
+    largest_divisor,
+    plan_output,
+)
 
 __all__ = [
+    "DISK_CHUNK_BYTES",
     "WORKING_COPIES",
+    "ZARR_FORMAT",
+    "check_stored_attributes",
     "choose_chunks",
     "decode_labels",
     "default_memory",
     "disk_chunks",
     "encode_labels",
+    "input_format",
     "is_current",
     "manifest_path",
     "open_input",
@@ -44,6 +55,7 @@ __all__ = [
     "prepare_output",
     "write_atomic",
     "write_manifest",
+    "write_store_atomic",
 ]
 
 #: How many chunk-sized float64 arrays one Dask task may hold at once (inputs
@@ -52,16 +64,9 @@ __all__ = [
 WORKING_COPIES = 32
 #: Dimensions never split across Dask chunks (kernels need them whole).
 WHOLE_DIMS = ("component",)
-#: Upper bound of one NetCDF (HDF5) chunk of a variable frameshift computes.
-DISK_CHUNK_BYTES = 4 * 2**20
-#: Name of the label variable that carries the ``component`` axis names on disk.
-LABEL = "component_label"
-_LABEL_DIM = "component_strlen"
-_MANIFEST_SUFFIX = ".frameshift.json"
-_MANIFEST_FORMAT = 1
-_STORAGE_KEYS = ("zlib", "complevel", "shuffle", "fletcher32", "contiguous", "chunksizes",
-                 "compression", "dtype", "_FillValue", "missing_value", "scale_factor",
-                 "add_offset", "_Unsigned", "units", "calendar", "char_dim_name", "endian")
+#: Zarr format of the stores frameshift writes (2: read by every Zarr reader, with
+#: consolidated metadata in ``.zmetadata``).
+ZARR_FORMAT = 2
 
 
 # --- memory budget and chunks ---------------------------------------------------------
@@ -177,37 +182,8 @@ def _align(size: int, stored: int | None) -> int:
         return size
     if stored <= size:
         return (size // stored) * stored
-    part = _largest_divisor(stored, size)  # a stored chunk read by a whole number of tasks
+    part = largest_divisor(stored, size)  # a stored chunk read by a whole number of tasks
     return part if 2 * part >= size else size
-
-
-def disk_chunks(block: Sequence[int], itemsize: int, limit: int = DISK_CHUNK_BYTES) -> tuple:
-    """NetCDF chunk shape for a variable whose first Dask block is ``block``.
-
-    Each stored chunk lies inside one Dask block (its size divides the block
-    along every dimension), so each task writes whole stored chunks; stored
-    chunks stay under ``limit`` bytes by splitting outer dimensions first.
-
-    Examples
-    --------
-    >>> disk_chunks((100, 50, 72), 8, limit=8 * 50 * 72 * 10)
-    (10, 50, 72)
-    """
-    shape = [max(1, int(n)) for n in block]
-    for i in range(len(shape)):
-        inner = math.prod(shape[i + 1:]) * itemsize
-        if math.prod(shape) * itemsize <= limit:
-            break
-        room = max(1, limit // max(1, inner))
-        shape[i] = _largest_divisor(shape[i], room)
-    return tuple(shape)
-
-
-def _largest_divisor(n: int, at_most: int) -> int:
-    for d in range(min(n, at_most), 0, -1):
-        if n % d == 0:
-            return d
-    return 1
 
 
 # --- opening ---------------------------------------------------------------------------
@@ -218,13 +194,16 @@ def open_input(
     parallel: int = 1,
     combine: bool = False,
 ) -> tuple[xr.Dataset, xr.Dataset | None]:
-    """Open input lazily with budget-sized Dask chunks.
+    """Open NetCDF files or Zarr stores lazily, with budget-sized Dask chunks.
 
     Returns ``(decoded, raw)``: the CF-decoded Dataset to compute on, and for
-    a single file the same file undecoded (``decode_cf=False``), from which
-    untouched variables are copied byte for byte; ``raw`` is None when
-    several files are combined along time (their stored encodings may differ).
-    Close both when done.
+    a single input the same input undecoded (``decode_cf=False``), from which
+    untouched variables are copied byte for byte; when several files are
+    combined along time, ``raw`` is the first file undecoded, from which only
+    the variables all files share (same shape as combined) are copied.
+    A Zarr store is a directory named ``*.zarr`` (see :func:`input_format`).
+    Attributes that would make decoding fail half-way (a ``scale_factor``
+    stored as text) are refused first, naming the variable. Close both when done.
 
     Examples
     --------
@@ -232,84 +211,120 @@ def open_input(
     """
     memory = default_memory() if memory is None else memory
     files = [paths] if isinstance(paths, str | os.PathLike) else list(paths)
-    with xr.open_dataset(files[0], chunks=None) as probe:
+    engine = _engine(files[0])
+    for file in files:
+        with xr.open_dataset(file, chunks=None, engine=engine, decode_cf=False) as undecoded:
+            check_stored_attributes(undecoded, file)
+    with xr.open_dataset(files[0], chunks=None, engine=engine) as probe:
         chunks = choose_chunks(probe, memory, parallel=parallel)
     with warnings.catch_warnings():
         # a budget smaller than one stored chunk must split it; xarray warns about that
         warnings.filterwarnings("ignore", "The specified chunks separate", UserWarning)
-        return _open(files, chunks, combine)
+        return _open(files, chunks, combine, engine)
 
 
-def _open(files: list, chunks: dict, combine: bool) -> tuple[xr.Dataset, xr.Dataset | None]:
+def input_format(path: str | os.PathLike) -> str:
+    """``"zarr"`` for a Zarr store (a directory named ``*.zarr``, or one holding Zarr
+    metadata), else ``"netcdf"``.
+
+    Examples
+    --------
+    >>> input_format("winds.nc"), input_format("winds.zarr")
+    ('netcdf', 'zarr')
+    """
+    path = Path(path)
+    if path.suffix.lower() == ".zarr":
+        return "zarr"
+    if path.is_dir() and any((path / m).exists() for m in (".zgroup", "zarr.json", ".zmetadata")):
+        return "zarr"
+    return "netcdf"
+
+
+def _engine(path: str | os.PathLike) -> str:
+    if input_format(path) == "zarr":
+        _require_zarr()
+        return "zarr"
+    return "netcdf4"
+
+
+def _require_zarr() -> None:
+    try:
+        import zarr  # noqa: F401
+    except ImportError as exc:
+        raise MissingInputError(
+            "reading or writing Zarr stores needs the zarr package: "
+            "pip install 'frameshift[zarr]'",
+            variable="format",
+            expected="zarr installed",
+            found="zarr not installed",
+        ) from exc
+
+
+#: Attributes CF requires to be numbers: as text they would fail half-way through a write.
+NUMERIC_ATTRIBUTES = ("scale_factor", "add_offset", "_FillValue", "missing_value",
+                      "valid_min", "valid_max", "valid_range")
+
+
+def check_stored_attributes(raw: xr.Dataset, where: object = "") -> None:
+    """Refuse numeric variables whose packing or fill attributes are stored as text.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> raw = xr.Dataset({"u": ("x", [1], {"scale_factor": "0.01"})})
+    >>> check_stored_attributes(raw)
+    Traceback (most recent call last):
+    ...
+    frameshift.errors.UnsupportedInputError: variable 'u' has scale_factor stored as text ...
+    """
+    place = f" in {os.fspath(where)}" if where else ""
+    for name, var in raw.variables.items():
+        if var.dtype.kind not in "iuf":
+            continue
+        for key in NUMERIC_ATTRIBUTES:
+            value = var.attrs.get(key)
+            if isinstance(value, str | bytes | np.str_ | np.bytes_) or (
+                    isinstance(value, np.ndarray) and value.dtype.kind in "SUO"):
+                raise UnsupportedInputError(
+                    f"variable {name!r} has {key} stored as text ({value!r}){place}; CF "
+                    f"needs a number here. Rewrite the attribute as a number (e.g. "
+                    f"ncatted -a {key},{name},o,f,<value>) and run again",
+                    variable=str(name),
+                    expected=f"a numeric {key}",
+                    found=f"text {value!r}",
+                )
+
+
+def _open(files: list, chunks: dict, combine: bool,
+          engine: str) -> tuple[xr.Dataset, xr.Dataset | None]:
     if combine or len(files) > 1:
         ds = xr.open_mfdataset(
             files, combine="by_coords", data_vars="minimal", coords="minimal",
-            compat="override", chunks=chunks, engine="netcdf4",
+            compat="override", chunks=chunks, engine=engine,
         )
-        return decode_labels(ds), None
-    ds = xr.open_dataset(files[0], chunks=chunks, engine="netcdf4")
+        try:  # the first file as stored: variables the files share are copied from it
+            raw = xr.open_dataset(files[0], chunks=chunks, engine=engine, decode_cf=False)
+        except BaseException:
+            ds.close()
+            raise
+        return decode_labels(ds), raw
+    ds = xr.open_dataset(files[0], chunks=chunks, engine=engine)
     try:
-        raw = xr.open_dataset(files[0], chunks=chunks, engine="netcdf4", decode_cf=False)
+        raw = xr.open_dataset(files[0], chunks=chunks, engine=engine, decode_cf=False)
     except BaseException:
         ds.close()
         raise
     return decode_labels(ds), raw
 
 
-def encode_labels(ds: xr.Dataset) -> xr.Dataset:
-    """Put a string ``component`` coordinate on disk as CF labels.
-
-    CF coordinate variables must be numeric, so the axis names go to a char
-    label variable (CF §6.1) ``component_label(component)``, and
-    variables with a ``component`` dimension get it first, left of the
-    space-time dimensions (CF §2.4). :func:`decode_labels` undoes this.
-
-    Examples
-    --------
-    >>> import xarray as xr
-    >>> ds = xr.Dataset({"p": (("t", "component"), [[1.0, 2.0, 3.0]])},
-    ...                 coords={"component": ["x", "y", "z"]})
-    >>> encode_labels(ds)["p"].dims
-    ('component', 't')
-    """
-    if "component" not in ds.coords or ds["component"].dtype.kind not in "USO":
-        return ds
-    labels = ds["component"]
-    attrs = {"long_name": labels.attrs.get("long_name", "Cartesian axis")}
-    out = ds.drop_vars("component")
-    out = out.assign_coords({LABEL: ("component", labels.values.astype("S"), attrs)})
-    out[LABEL].encoding = {"dtype": "S1", "char_dim_name": _LABEL_DIM}
-    for name in list(out.data_vars):
-        if "component" in out[name].dims:
-            out[name] = out[name].transpose("component", ...)
-    return out
-
-
-def decode_labels(ds: xr.Dataset) -> xr.Dataset:
-    """Undo :func:`encode_labels`: a string ``component`` coordinate, kept last.
-
-    Examples
-    --------
-    >>> import xarray as xr
-    >>> ds = xr.Dataset({"p": (("t", "component"), [[1.0, 2.0, 3.0]])},
-    ...                 coords={"component": ["x", "y", "z"]})
-    >>> decode_labels(encode_labels(ds))["component"].values.tolist()
-    ['x', 'y', 'z']
-    """
-    if LABEL not in ds.variables or ds[LABEL].dims != ("component",):
-        return ds
-    label = ds[LABEL]
-    values = np.char.decode(np.asarray(label.values).astype("S"), "utf-8").astype(str)
-    out = ds.drop_vars(LABEL).assign_coords(component=("component", values, dict(label.attrs)))
-    for name in list(out.data_vars):
-        if "component" in out[name].dims:
-            out[name] = out[name].transpose(..., "component")
-    return out
-
-
 # --- what is written how ---------------------------------------------------------------
 def prepare_output(
-    out: xr.Dataset, source: xr.Dataset, raw: xr.Dataset | None = None
+    out: xr.Dataset,
+    source: xr.Dataset,
+    raw: xr.Dataset | None = None,
+    *,
+    precision: str = "input",
+    target: str = "netcdf",
 ) -> tuple[xr.Dataset, dict[str, str]]:
     """The Dataset to write for result ``out`` of an operation on ``source``.
 
@@ -317,7 +332,9 @@ def prepare_output(
     written: ``"copied"`` (untouched: from ``raw`` as stored if given, else
     with its input encoding), ``"relabelled"`` (same values, new metadata:
     input encoding kept, which is lossless) or ``"computed"`` (new values:
-    float, zlib, chunked in step with Dask, no packing).
+    float in the input's precision, or float64 with ``precision="float64"``;
+    compressed, chunked in step with Dask, never packed). The policy is
+    :func:`frameshift.storage.plan_output`.
 
     Examples
     --------
@@ -326,84 +343,7 @@ def prepare_output(
     >>> prepare_output(src.assign(b=src.a * 2), src)[1]
     {'a': 'copied', 'b': 'computed'}
     """
-    out = encode_labels(out)
-    variables: dict[str, xr.Variable] = {}
-    how: dict[str, str] = {}
-    coords = {str(n) for n in out.coords}
-    for key, var in out.variables.items():
-        name = str(key)
-        old = source.variables.get(name)
-        is_coord = name in coords
-        if old is not None and _same_data(var, old) and _same_attrs(var.attrs, old.attrs):
-            how[name] = "copied"
-            if raw is not None and name in raw.variables and raw.variables[name].dtype.kind != "S":
-                # as stored; char arrays come decoded (xarray re-encodes them exactly)
-                new = raw.variables[name].copy(deep=False)
-                new.encoding = _storage(raw.variables[name].encoding)
-            else:
-                new = var.copy(deep=False)
-                new.encoding = _storage(var.encoding)
-            if "_FillValue" not in new.encoding and "_FillValue" not in new.attrs:
-                new.encoding["_FillValue"] = None
-        elif old is not None and _same_data(var, old):
-            how[name] = "relabelled"
-            new = var.copy(deep=False)
-            new.encoding = _storage(var.encoding)
-            if is_coord and "_FillValue" not in new.encoding:
-                new.encoding["_FillValue"] = None
-        else:
-            how[name] = "computed"
-            new = var.copy(deep=False)
-            new.encoding = _computed_encoding(var, is_coord)
-        variables[name] = new
-    data_vars = {n: v for n, v in variables.items() if n not in coords}
-    coord_vars = {n: v for n, v in variables.items() if n in coords}
-    result = xr.Dataset(data_vars, coords=coord_vars, attrs=dict(out.attrs))
-    return result, how
-
-
-def _storage(encoding: Mapping) -> dict:
-    return {k: v for k, v in encoding.items() if k in _STORAGE_KEYS}
-
-
-def _computed_encoding(var: xr.Variable, is_coord: bool) -> dict:
-    if var.dtype.kind in "USO":
-        enc = {k: v for k, v in var.encoding.items() if k in ("dtype", "char_dim_name")}
-    else:
-        enc = {k: v for k, v in float_encoding(var.encoding).items()
-               if k in ("complevel", "shuffle")}
-        enc.setdefault("complevel", 4)
-        enc.update(zlib=True, shuffle=True)
-        if var.ndim:
-            block = [c[0] for c in var.chunks] if var.chunks else list(var.shape)
-            enc["chunksizes"] = disk_chunks(block, var.dtype.itemsize)
-        else:
-            enc = {}
-    if is_coord:
-        enc["_FillValue"] = None
-    return enc
-
-
-def _same_data(new: xr.Variable, old: xr.Variable) -> bool:
-    if new.dims != old.dims or new.dtype != old.dtype or new.shape != old.shape:
-        return False
-    a, b = new._data, old._data
-    if a is b:
-        return True
-    if hasattr(new.data, "dask") or hasattr(old.data, "dask"):
-        return getattr(new.data, "name", 1) == getattr(old.data, "name", 2)
-    if new.size <= 10**6:  # in memory (index coordinates): compare values
-        try:
-            return bool(new.equals(old))
-        except Exception:  # an incomparable variable counts as changed
-            return False
-    return False
-
-
-def _same_attrs(a: Mapping, b: Mapping) -> bool:
-    if set(a) != set(b):
-        return False
-    return all(np.array_equal(np.asarray(a[k]), np.asarray(b[k])) for k in a)
+    return plan_output(out, source, raw, precision=precision, target=target)
 
 
 # --- writing ----------------------------------------------------------------------------
@@ -455,6 +395,39 @@ def write_atomic(
             raise
         finally:
             pool.shutdown(wait=False)
+
+    return safefiles.publish(write, path, manifest=manifest)
+
+
+def write_store_atomic(
+    ds: xr.Dataset,
+    path: str | os.PathLike,
+    *,
+    compute: Callable[[object], object] | None = None,
+    manifest: Mapping | None = None,
+) -> Path:
+    """Write ``ds`` as a Zarr store at ``path``, whole or not at all (with its manifest).
+
+    The store (consolidated metadata, Zarr format :data:`ZARR_FORMAT`) is
+    written into a temporary directory beside ``path`` and published with its
+    manifest by :func:`frameshift.safefiles.publish`, as NetCDF files are.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> write_store_atomic(xr.Dataset({"a": ("x", [1.0])}), "out/a.zarr")  # doctest: +SKIP
+    PosixPath('out/a.zarr')
+    """
+    _require_zarr()
+
+    def write(tmp: Path) -> None:
+        tmp.unlink(missing_ok=True)  # the temporary name was held by an empty file
+        delayed = ds.to_zarr(tmp, mode="w", compute=False, consolidated=True,
+                             zarr_format=ZARR_FORMAT)
+        if compute is None:
+            delayed.compute()
+        else:
+            compute(delayed)
 
     return safefiles.publish(write, path, manifest=manifest)
 

@@ -76,7 +76,7 @@ def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
                 found="nothing",
             )
         for match in (Path(os.path.abspath(m)) for m in matches):
-            if match.is_dir():
+            if match.is_dir() and not _is_store(match):
                 pairs = [(p, match) for p in _walk(match)]
             else:
                 pairs = [(match, match.parent)]
@@ -84,16 +84,24 @@ def find_inputs(paths: Sequence[str | os.PathLike]) -> list[tuple[Path, Path]]:
                 found.setdefault(file.resolve(), (file, root))
     if not found:
         raise MissingInputError(
-            f"no NetCDF (*.nc) files found in {[os.fspath(p) for p in paths]}",
+            f"no NetCDF (*.nc) files or Zarr (*.zarr) stores found in "
+            f"{[os.fspath(p) for p in paths]}",
             variable="inputs",
-            expected="at least one *.nc file",
+            expected="at least one *.nc file or *.zarr store",
             found="none",
         )
     return list(found.values())
 
 
+def _is_store(path: Path) -> bool:
+    """A Zarr store: a ``*.zarr`` folder, or any folder holding Zarr metadata."""
+    return path.suffix == ".zarr" or any(
+        (path / name).exists() for name in (".zgroup", ".zmetadata", "zarr.json")
+    )
+
+
 def _walk(top: Path) -> list[Path]:
-    """Every ``*.nc`` file under ``top``, following symbolic links; loops refused.
+    """Every ``*.nc`` file and ``*.zarr`` store under ``top``, following links; loops refused.
 
     Paths are kept as found (not resolved), so a linked file or folder keeps
     its place in the tree; a link that leads back to a folder being searched
@@ -122,7 +130,9 @@ def _walk(top: Path) -> list[Path]:
                         found="broken symbolic link",
                     )
                 continue
-            if entry.is_dir():
+            if entry.is_dir() and _is_store(path):  # a Zarr store is one input
+                files.append(path)
+            elif entry.is_dir():
                 st = os.stat(path)
                 key = (st.st_dev, st.st_ino)
                 if key in chain:

@@ -6,10 +6,14 @@ figures are built on :class:`matplotlib.figure.Figure` directly (no pyplot
 state), so they work headless. Every function returns the Figure and, given
 ``path``, also writes a PNG.
 
-Colour choices: signed quantities use the diverging map ``RdBu_r`` centred on
-zero (red eastward/northward/upward, blue the opposite way); quantities of one
-sign use the perceptually uniform ``cividis``; lines use a palette that stays
-distinguishable under the common colour-vision deficiencies.
+Colour choices: every signed quantity (every acceleration term, even one that
+keeps its sign) uses the one diverging map ``RdBu_r`` centred on zero (red
+eastward/northward/upward, blue the opposite way); magnitudes use the
+perceptually uniform ``cividis``; lines use a palette that stays
+distinguishable under the common colour-vision deficiencies. Time axes are
+elapsed time from the first value (every CF calendar, cftime values
+included), labelled with the start and the calendar; each panel's scale is
+its own, with the power of ten in its label, so small terms are readable.
 """
 
 from __future__ import annotations
@@ -22,37 +26,37 @@ import numpy as np
 import xarray as xr
 
 from frameshift._plotkit import (
-    _DPI,
-    _TERM_LABELS,
+    DPI,
     LINE_COLOURS,
     MAGNITUDE_CMAP,
     SIGNED_CMAP,
     STYLE,
-    _caption,
-    _colour_scale,
-    _coord_by_kind,
-    _coord_text,
-    _edges,
-    _exponent,
-    _height_name,
-    _inertial_period_hours,
-    _is_zero,
-    _lines_needed,
-    _new_figure,
-    _nonzero_terms,
-    _period_bar,
-    _save,
-    _section,
-    _select,
-    _style,
-    _term_grid,
-    _term_names,
-    _time_ticks,
-    _values,
-    _vertical_dim,
-    _zero_note,
-    _zero_panel,
+    TERM_LABELS,
+    add_caption,
+    cell_edges,
+    colour_scale,
+    coord_by_kind,
+    coord_text,
+    draw_section,
+    figure_style,
+    height_name,
+    inertial_period_hours,
+    is_zero,
+    lines_needed,
+    new_figure,
+    nonzero_terms,
+    period_bar,
+    power_of_ten,
+    save_figure,
+    scaled_values,
+    select_nearest,
+    term_grid,
+    term_names,
+    time_ticks,
     unit_label,
+    vertical_dim,
+    zero_note,
+    zero_panel,
 )
 from frameshift.detect import INERTIAL, ROTATING, criteria, find_time, read_layout
 from frameshift.errors import MissingInputError
@@ -84,14 +88,13 @@ def plot_term_maps(
     terms: Iterable[str] | None = None,
     components: Sequence[str] = criteria.COMPONENTS,
     path: str | PathLike | None = None,
-    dpi: int = _DPI,
+    dpi: int = DPI,
 ) -> Figure:
     """Latitude-longitude maps of each acceleration term at one level and time.
 
     One row per term, one column per component, each panel with its own colour
-    scale: diverging and centred on zero where the term changes sign, sequential
-    where it does not. Terms that are zero everywhere are left out and named in
-    the caption.
+    scale (the power of ten in its label), diverging and centred on zero. Terms
+    that are zero everywhere are left out and named in the caption.
 
     Parameters
     ----------
@@ -126,45 +129,45 @@ def plot_term_maps(
     >>> ds = xr.open_dataset("data_demo/global_winds.nc")  # doctest: +SKIP
     >>> fig = plot_term_maps(frameshift.apparent_accelerations(ds), "250 hPa")  # doctest: +SKIP
     """
-    names = _term_names(terms_ds, terms)
-    lat_name = _coord_by_kind(terms_ds, "latitude")
-    lon_name = _coord_by_kind(terms_ds, "longitude")
-    draw, zero = _nonzero_terms(terms_ds, names, components)
+    names = term_names(terms_ds, terms)
+    lat_name = coord_by_kind(terms_ds, "latitude")
+    lon_name = coord_by_kind(terms_ds, "longitude")
+    draw, zero = nonzero_terms(terms_ds, names, components)
     if not draw:
         draw, zero = names, []
     sample = terms_ds[f"{draw[0]}_{next(c for c in components if f'{draw[0]}_{c}' in terms_ds)}"]
-    vdim = _vertical_dim(sample)
+    vdim = vertical_dim(sample)
     tname = find_time(terms_ds, sample.name)
     where = []
 
     def pick(da: xr.DataArray) -> xr.DataArray:
         if vdim is not None:
-            da = _select(da, vdim, level)
+            da = select_nearest(da, vdim, level)
         if tname is not None and tname in da.dims:
-            da = da.mean(tname) if time == "mean" else _select(da, tname, time)
+            da = da.mean(tname) if time == "mean" else select_nearest(da, tname, time)
         return da.transpose(lat_name, lon_name)
 
     first = pick(sample)
     if vdim is not None:
-        where.append(f"at {_coord_text(first[vdim])}")
+        where.append(f"at {coord_text(first[vdim])}")
     if tname is not None and time == "mean":
         t = terms_ds[tname]
-        where.append(f"mean of {t.size} times from {_coord_text(t[0])} to {_coord_text(t[-1])}")
+        where.append(f"mean of {t.size} times from {coord_text(t[0])} to {coord_text(t[-1])}")
     elif tname is not None:
-        where.append(f"at {_coord_text(first[tname])}")
+        where.append(f"at {coord_text(first[tname])}")
     lon = terms_ds[lon_name].values
     lat = terms_ds[lat_name].values
-    lon_e, lat_e = _edges(lon), _edges(lat, -90.0, 90.0)
+    lon_e, lat_e = cell_edges(lon), cell_edges(lat, -90.0, 90.0)
     caption = (
         f"Apparent accelerations of the rotating frame {', '.join(where)}, one panel per "
-        "term (rows) and component (columns), each on its own colour scale: red-blue "
-        "diverging maps are centred on zero; cividis marks terms of one sign." + _zero_note(zero)
+        "term (rows) and component (columns), each on its own colour scale (power of ten "
+        "in the label), red-blue diverging and centred on zero." + zero_note(zero)
     )
     ncol = len(components)
     width = 4.1 * ncol + 0.4
-    lines = _lines_needed(caption, width)
-    with _style():
-        fig = _new_figure((width, 2.45 * len(draw) + 0.8 + 0.17 * lines), lines)
+    lines = lines_needed(caption, width)
+    with figure_style():
+        fig = new_figure((width, 2.45 * len(draw) + 0.8 + 0.17 * lines), lines)
         axes = fig.subplots(len(draw), ncol, squeeze=False, sharex=True, sharey=True)
         for i, term in enumerate(draw):
             for j, comp in enumerate(components):
@@ -173,7 +176,7 @@ def plot_term_maps(
                 if name not in terms_ds:
                     ax.set_axis_off()
                     continue
-                title = f"{_TERM_LABELS.get(term, term)}, {comp}"
+                title = f"{TERM_LABELS.get(term, term)}, {comp}"
                 ax.set_yticks([-60, -30, 0, 30, 60])
                 if np.ptp(lon) > 300:
                     start = 0 if lon.min() >= 0 else -180
@@ -185,12 +188,12 @@ def plot_term_maps(
                 if j == 0:
                     ax.set_ylabel("latitude (°N)")
                 da = pick(terms_ds[name])
-                if _is_zero(da):
-                    _zero_panel(ax, title, keep_ticks=True)
+                if is_zero(da):
+                    zero_panel(ax, title, keep_ticks=True)
                     continue
-                exp = _exponent(np.asarray(da.values, dtype=np.float64))
-                vals = _values(da, exp)
-                cmap, lo, hi = _colour_scale(vals)
+                exp = power_of_ten(np.asarray(da.values, dtype=np.float64))
+                vals = scaled_values(da, exp)
+                cmap, lo, hi = colour_scale(vals, signed=True)  # terms are signed
                 mesh = ax.pcolormesh(lon_e, lat_e, vals, cmap=cmap, vmin=lo, vmax=hi)
                 units = unit_label(terms_ds[name].attrs.get("units", "m s-2"), exp)
                 cbar = fig.colorbar(mesh, ax=ax, shrink=0.9, pad=0.02, aspect=18)
@@ -199,8 +202,8 @@ def plot_term_maps(
                 ax.set_title(title)
                 ax.grid(False)
         fig.suptitle("Apparent accelerations of the rotating frame", fontweight="bold")
-        _caption(fig, caption, width)
-        _save(fig, path, dpi)
+        add_caption(fig, caption, width)
+        save_figure(fig, path, dpi)
     return fig
 
 
@@ -214,7 +217,7 @@ def plot_terms_timeseries(
     section: str | None = "coriolis_eastward",
     frame: Frame = EARTH,
     path: str | PathLike | None = None,
-    dpi: int = _DPI,
+    dpi: int = DPI,
 ) -> Figure:
     """Acceleration terms against time at a fixed point (a mooring or station).
 
@@ -255,8 +258,8 @@ def plot_terms_timeseries(
     >>> ds = xr.open_dataset("data_demo/shelf_mooring.nc")  # doctest: +SKIP
     >>> fig = plot_terms_timeseries(frameshift.apparent_accelerations(ds), 10)  # doctest: +SKIP
     """
-    names = _term_names(terms_ds, terms)
-    draw, zero = _nonzero_terms(terms_ds, names, components)
+    names = term_names(terms_ds, terms)
+    draw, zero = nonzero_terms(terms_ds, names, components)
     draw = draw or names
     sample = terms_ds[f"{draw[0]}_{components[0]}"]
     tname = find_time(terms_ds, sample.name)
@@ -267,50 +270,50 @@ def plot_terms_timeseries(
             expected="a decoded time coordinate",
             found=str(sample.dims),
         )
-    vdim = _vertical_dim(sample)
+    vdim = vertical_dim(sample)
     show_section = section is not None and vdim is not None and section in terms_ds
 
     def pick(da: xr.DataArray) -> xr.DataArray:
         if vdim is not None and vdim in da.dims:
-            da = _select(da, vdim, depth)
+            da = select_nearest(da, vdim, depth)
         rest = [d for d in da.dims if d != tname]
         return da.isel(dict.fromkeys(rest, 0)).transpose(tname)
 
     at = ""
     if vdim is not None:
         chosen = pick(sample)[vdim]
-        at = f" at {_coord_text(chosen)} {'depth' if vdim == 'depth' else vdim}"
-    period_h = _inertial_period_hours(terms_ds, frame)
+        at = f" at {coord_text(chosen)} {'depth' if vdim == 'depth' else vdim}"
+    period_h = inertial_period_hours(terms_ds, frame)
     caption = (
         f"Apparent accelerations against time{at}: one panel per term (rows) and component "
         "(columns), each with its own y scale (power of ten in the label)."
         + (
-            f" Top: {_TERM_LABELS.get(section.rpartition('_')[0], section)} "
+            f" Top: {TERM_LABELS.get(section.rpartition('_')[0], section)} "
             f"{section.rpartition('_')[2]} term against {vdim} and time, centred on zero;"
             " the dashed line marks the depth of the panels below."
             if show_section
             else ""
         )
         + (f" The bar marks one inertial period 2π/f = {period_h:.1f} h." if period_h else "")
-        + _zero_note(zero)
+        + zero_note(zero)
     )
     width = 4.0 * len(components) + 0.6
-    lines = _lines_needed(caption, width)
+    lines = lines_needed(caption, width)
     height = 2.0 * len(draw) + (2.6 if show_section else 0.0) + 0.9 + 0.17 * lines
-    with _style():
-        fig = _new_figure((width, height), lines)
+    with figure_style():
+        fig = new_figure((width, height), lines)
         ratios = [2.4, 2.0 * len(draw)] if show_section else [1.0]
         outer = fig.add_gridspec(len(ratios), 1, height_ratios=ratios)
-        axes = _term_grid(fig, outer[-1], terms_ds, draw, components, pick)
+        axes = term_grid(fig, outer[-1], terms_ds, draw, components, pick)
         bar_ax = axes[0, 0]
         if show_section:
             bar_ax = fig.add_subplot(outer[0])
-            _section(fig, bar_ax, terms_ds[section], tname, vdim, pick)
+            draw_section(fig, bar_ax, terms_ds[section], tname, vdim, pick)
         if period_h:
-            _period_bar(bar_ax, period_h)
+            period_bar(bar_ax, period_h)
         fig.suptitle("Apparent accelerations at a fixed point", fontweight="bold")
-        _caption(fig, caption, width)
-        _save(fig, path, dpi)
+        add_caption(fig, caption, width)
+        save_figure(fig, path, dpi)
     return fig
 
 
@@ -322,7 +325,7 @@ def plot_zonal_mean_velocity(
     height: str | None = None,
     level: float | str | None = None,
     path: str | PathLike | None = None,
-    dpi: int = _DPI,
+    dpi: int = DPI,
 ) -> Figure:
     """Zonal- and time-mean eastward velocity relative to the Earth and to inertial space.
 
@@ -360,12 +363,12 @@ def plot_zonal_mean_velocity(
     """
     u_earth = earth_ds[read_layout(earth_ds, target=INERTIAL).velocity.eastward]
     u_inert = inertial_ds[read_layout(inertial_ds, target=ROTATING).velocity.eastward]
-    lat_name = _coord_by_kind(earth_ds, "latitude")
-    lon_name = _coord_by_kind(earth_ds, "longitude")
-    zname = height or _height_name(earth_ds)
+    lat_name = coord_by_kind(earth_ds, "latitude")
+    lon_name = coord_by_kind(earth_ds, "longitude")
+    zname = height or height_name(earth_ds)
     zvar = earth_ds[zname]
     tname = find_time(earth_ds, u_earth.name)
-    vdim = _vertical_dim(u_earth)
+    vdim = vertical_dim(u_earth)
     if vdim is None:
         raise MissingInputError(
             "plot_zonal_mean_velocity needs a vertical dimension on the velocities",
@@ -387,9 +390,9 @@ def plot_zonal_mean_velocity(
     if level is None:
         k = int(np.unravel_index(np.nanargmax(np.abs(ue)), ue.shape)[0])
     else:
-        chosen = _select(earth_ds[vdim], vdim, level)
+        chosen = select_nearest(earth_ds[vdim], vdim, level)
         k = int(np.flatnonzero(earth_ds[vdim].values == chosen.values)[0])
-    level_text = _coord_text(earth_ds[vdim][k])
+    level_text = coord_text(earth_ds[vdim][k])
     zlabel = str(zvar.attrs.get("long_name") or zvar.attrs.get("standard_name", zname))
     zlabel = zlabel.replace("_", " ")
     caption = (
@@ -401,10 +404,10 @@ def plot_zonal_mean_velocity(
         "difference."
     )
     width = 14.0
-    lines = _lines_needed(caption, width)
+    lines = lines_needed(caption, width)
     speed = unit_label("m s-1")
-    with _style():
-        fig = _new_figure((width, 4.6 + 0.17 * lines), lines)
+    with figure_style():
+        fig = new_figure((width, 4.6 + 0.17 * lines), lines)
         axes = fig.subplots(1, 3, width_ratios=[1, 1, 0.9])
         top = float(np.nanmax(np.abs(ue)))
         step = 5.0 if top < 60 else 10.0
@@ -446,8 +449,8 @@ def plot_zonal_mean_velocity(
         ax.set_xticks([-60, -30, 0, 30, 60])
         ax.legend(loc="lower center", bbox_to_anchor=(0.5, 0.12))
         fig.suptitle("Eastward velocity in two frames", fontweight="bold")
-        _caption(fig, caption, width)
-        _save(fig, path, dpi)
+        add_caption(fig, caption, width)
+        save_figure(fig, path, dpi)
     return fig
 
 
@@ -460,7 +463,7 @@ def plot_track_terms(
     terms: Iterable[str] | None = None,
     components: Sequence[str] = criteria.COMPONENTS,
     path: str | PathLike | None = None,
-    dpi: int = _DPI,
+    dpi: int = DPI,
 ) -> Figure:
     """A trajectory's track coloured by one term, and all terms along the track.
 
@@ -495,13 +498,13 @@ def plot_track_terms(
     """
     from matplotlib.collections import LineCollection
 
-    names = _term_names(terms_ds, terms)
-    draw, zero = _nonzero_terms(terms_ds, names, components)
+    names = term_names(terms_ds, terms)
+    draw, zero = nonzero_terms(terms_ds, names, components)
     draw = draw or names
-    lat = np.asarray(track_ds[_coord_by_kind(track_ds, "latitude")].values, dtype=np.float64)
-    lon = np.asarray(track_ds[_coord_by_kind(track_ds, "longitude")].values, dtype=np.float64)
+    lat = np.asarray(track_ds[coord_by_kind(track_ds, "latitude")].values, dtype=np.float64)
+    lon = np.asarray(track_ds[coord_by_kind(track_ds, "longitude")].values, dtype=np.float64)
     tname = find_time(track_ds)
-    times = track_ds[tname].values if tname else None
+    times = track_ds[tname] if tname else None
     east = terms_ds.get(f"{colour_by}_eastward")
     north = terms_ds.get(f"{colour_by}_northward")
     if east is None or north is None:
@@ -512,18 +515,19 @@ def plot_track_terms(
             found=str(list(terms_ds.data_vars)),
         )
     mag = np.hypot(np.asarray(east.values, dtype=np.float64), np.asarray(north.values, np.float64))
-    exp = _exponent(mag)
+    exp = power_of_ten(mag)
     mag = mag / 10.0**exp
     caption = (
         f"Top: the track, coloured by the horizontal magnitude of the "
-        f"{_TERM_LABELS.get(colour_by, colour_by)} acceleration (cividis); ticks every 6 h, "
-        "circle at the start. Below: each term (rows) and component (columns) against time, "
-        "each with its own y scale (power of ten in the label)." + _zero_note(zero)
+        f"{TERM_LABELS.get(colour_by, colour_by)} acceleration (cividis); ticks every 6 h, "
+        "labelled in hours since the start (circle); equal distances in x and y. "
+        "Below: each term (rows) and component (columns) against time, "
+        "each with its own y scale (power of ten in the label)." + zero_note(zero)
     )
     width = 4.2 * len(components) + 0.6
-    lines = _lines_needed(caption, width)
-    with _style():
-        fig = _new_figure((width, 1.7 * len(draw) + 3.6 + 0.17 * lines), lines)
+    lines = lines_needed(caption, width)
+    with figure_style():
+        fig = new_figure((width, 1.7 * len(draw) + 3.6 + 0.17 * lines), lines)
         outer = fig.add_gridspec(2, 1, height_ratios=[2.9, 1.7 * len(draw)])
         ax = fig.add_subplot(outer[0])
         points = np.column_stack([lon, lat]).reshape(-1, 1, 2)
@@ -533,7 +537,7 @@ def plot_track_terms(
         ax.add_collection(coll)
         ax.plot(lon[0], lat[0], "o", mfc="white", mec="#222222", ms=7, zorder=3)
         if times is not None:
-            _time_ticks(ax, lon, lat, times)
+            time_ticks(ax, lon, lat, times)
         pad_x = 0.03 * np.ptp(lon) + 0.5
         pad_y = 0.2 * np.ptp(lat) + 1.0
         ax.set_xlim(lon.min() - pad_x, lon.max() + pad_x)
@@ -541,7 +545,7 @@ def plot_track_terms(
         ax.set_aspect(1.0 / np.cos(np.deg2rad(np.nanmean(lat))), adjustable="box")
         cbar = fig.colorbar(coll, ax=ax, pad=0.01, aspect=12)
         cbar.set_label(
-            f"|{_TERM_LABELS.get(colour_by, colour_by)}, horizontal|\n"
+            f"|{TERM_LABELS.get(colour_by, colour_by)}, horizontal|\n"
             f"({unit_label(east.attrs.get('units', 'm s-2'), exp)})"
         )
         ax.set_xlabel("longitude (°E)")
@@ -551,8 +555,8 @@ def plot_track_terms(
         def pick(da: xr.DataArray) -> xr.DataArray:
             return da.squeeze(drop=True)
 
-        _term_grid(fig, outer[1], terms_ds, draw, components, pick)
+        term_grid(fig, outer[1], terms_ds, draw, components, pick)
         fig.suptitle("Apparent accelerations along a trajectory", fontweight="bold")
-        _caption(fig, caption, width)
-        _save(fig, path, dpi)
+        add_caption(fig, caption, width)
+        save_figure(fig, path, dpi)
     return fig

@@ -26,6 +26,7 @@ import hashlib
 import json
 import os
 import re
+import shutil
 import socket
 import tempfile
 from collections.abc import Callable, Iterable, Mapping, Sequence
@@ -107,10 +108,10 @@ def remove_stale(finals: Iterable[str | os.PathLike]) -> list[Path]:
             match = _TEMP.match(entry.name)
             if not match or match["name"] not in names or match["host"] != host:
                 continue
-            if _alive(int(match["pid"])) or not entry.is_file(follow_symlinks=False):
+            if _alive(int(match["pid"])) or entry.is_symlink():
                 continue
             with contextlib.suppress(FileNotFoundError):
-                os.unlink(entry.path)
+                _remove(Path(entry.path))  # a file, or a Zarr store's directory
                 removed.append(Path(entry.path))
     return removed
 
@@ -192,21 +193,36 @@ def manifest_path(output: str | os.PathLike) -> Path:
 
 
 def file_checksum(path: str | os.PathLike) -> str:
-    """SHA-256 of a file's bytes, as ``"sha256:<hex>"``.
+    """SHA-256 of a file's bytes (of a store's file names and bytes), as ``"sha256:<hex>"``.
 
     Examples
     --------
     >>> file_checksum(__file__).startswith("sha256:")
     True
     """
-    with open(path, "rb") as fh:
-        return "sha256:" + hashlib.file_digest(fh, "sha256").hexdigest()
+    path = Path(path)
+    if not path.is_dir():
+        with open(path, "rb") as fh:
+            return "sha256:" + hashlib.file_digest(fh, "sha256").hexdigest()
+    digest = hashlib.sha256()
+    for file in sorted(p for p in path.rglob("*") if p.is_file()):
+        digest.update(str(file.relative_to(path)).encode() + b"\0")
+        with open(file, "rb") as fh:
+            digest.update(hashlib.file_digest(fh, "sha256").digest())
+    return "sha256:" + digest.hexdigest()
 
 
 def _stat(path: Path, named: Path | None = None) -> dict:
     st = path.stat()
-    return {"path": str((named or path).resolve()), "size": st.st_size,
-            "mtime_ns": st.st_mtime_ns}
+    size, mtime = st.st_size, st.st_mtime_ns
+    if path.is_dir():  # a Zarr store: every file in it counts
+        size = 0
+        for root, _, names in os.walk(path):
+            for name in names:
+                fst = os.stat(os.path.join(root, name))
+                size += fst.st_size
+                mtime = max(mtime, fst.st_mtime_ns)
+    return {"path": str((named or path).resolve()), "size": size, "mtime_ns": mtime}
 
 
 def _normal(settings: Mapping) -> object:
@@ -362,36 +378,56 @@ def publish(
         tmp = _temp_file(path)
     except OSError as exc:
         raise (_explain(exc, _existing(path.parent), what) or exc) from exc
-    side = None
+    side = aside = None
     try:
-        write(tmp)
+        write(tmp)  # a file, or (a Zarr store) a directory in place of the empty file
         _flush(tmp)
-        os.chmod(tmp, 0o666 & ~_umask())
+        os.chmod(tmp, (0o777 if tmp.is_dir() else 0o666) & ~_umask())
         if manifest is not None:
             record = manifest_record(path, data_file=tmp, **manifest)
             side = _write_json(record, manifest_path(path))
         else:
             manifest_path(path).unlink(missing_ok=True)
+        if path.is_dir() and not path.is_symlink():  # a store cannot be renamed over
+            aside = _temp_file(path)
+            aside.unlink()
+            os.replace(path, aside)
         os.replace(tmp, path)
         if side is not None:
             try:
                 os.replace(side, manifest_path(path))
             except BaseException:
                 with contextlib.suppress(OSError):
-                    path.unlink()
+                    _remove(path)
                 raise
     except BaseException as exc:
         for leftover in (tmp, side):
             if leftover is not None:
                 with contextlib.suppress(OSError):
-                    leftover.unlink()
+                    _remove(leftover)
+        if aside is not None and not path.exists():
+            with contextlib.suppress(OSError):
+                os.replace(aside, path)  # the earlier store back
+                aside = None
         if isinstance(exc, OSError | RuntimeError) and not isinstance(exc, WriteError):
             better = _explain(exc, path.parent, what)
             if better is not None:
                 raise better from exc
         raise
+    finally:
+        if aside is not None:
+            with contextlib.suppress(OSError):
+                _remove(aside)
     _flush_dir(path.parent)
     return path
+
+
+def _remove(path: Path) -> None:
+    """Remove a file, or a directory tree (a Zarr store)."""
+    if path.is_dir() and not path.is_symlink():
+        shutil.rmtree(path)
+    else:
+        path.unlink()
 
 
 def _existing(folder: Path) -> Path:
@@ -401,6 +437,12 @@ def _existing(folder: Path) -> Path:
 
 
 def _flush(path: Path) -> None:
+    if path.is_dir():
+        for root, _, names in os.walk(path):
+            for name in names:
+                _flush(Path(root) / name)
+        _flush_dir(path)
+        return
     with open(path, "rb") as fh:
         os.fsync(fh.fileno())
 

@@ -8,6 +8,7 @@ attribute here, works out one scale factor to SI, and hands bare floats on.
 from __future__ import annotations
 
 import functools
+import math
 import re
 
 import pint
@@ -38,10 +39,21 @@ _EXAMPLES = {
 #: The physical kinds :func:`parse_units` checks.
 KINDS = tuple(_DIMENSIONS)
 
-# Spellings cf-xarray's formatter writes that UDUNITS-2 does not accept,
+# Spellings cf-xarray's formatter writes that UDUNITS-2 reads otherwise or not at all,
 # and the UDUNITS-2 names to write instead (udunits2-common.xml).
 _NOT_UDUNITS = {"kn": "knot", "deg": "degree", "nmi": "nautical_mile"}
 _TOKEN = re.compile(r"[A-Za-z_]+")
+_SCALED = re.compile(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s+\S")
+_PREFIXES = ("", "k", "h", "da", "d", "c", "m", "u", "µ", "n", "M", "G")
+# Symbols cf-xarray writes that mean the same in UDUNITS-2 (udunits2-accepted.xml,
+# udunits2-common.xml; each checked against cf-units in tests/test_units_written.py).
+# Anything else (mph: milliphot in UDUNITS; kph: kilophot; fps) is spelled out from
+# its pint definition, or, failing that, written as a scaled SI unit.
+_UDUNITS_SAFE = frozenset(
+    {p + b for p in _PREFIXES for b in ("m", "s", "g", "Pa", "N", "J", "W", "K", "rad")}
+    | {"min", "h", "d", "ft", "in", "yd", "mi", "knot", "nautical_mile", "degree",
+       "degree_north", "degree_east", "week", "fortnight", "percent"}
+)
 
 
 def parse_units(variable: str, units: object, kind: str) -> pint.Unit:
@@ -106,7 +118,21 @@ def _parse(text: str) -> pint.Unit:
     """The one call into the unit library's parser (cached: each text parsed once)."""
     if not text.isprintable() or len(text) > 200:
         raise ValueError("unit text with control characters or over 200 characters")
-    return ureg.Unit(text)
+    try:
+        return ureg.Unit(text)
+    except ValueError:
+        if not _SCALED.match(text):
+            raise
+    # a scaled unit such as "0.5 m s-1" (UDUNITS-2 allows a leading factor; frameshift
+    # writes one for units UDUNITS-2 cannot name): a unit of its own in the registry
+    quantity = ureg.Quantity(text)
+    factor = float(quantity.magnitude)
+    if not math.isfinite(factor) or factor == 0.0:
+        raise ValueError(f"unit text {text!r} has a factor that is not a finite, non-zero number")
+    name = "scaled_" + re.sub(r"\W", "_", f"{factor!r}_{quantity.units}")
+    if name not in ureg:
+        ureg.define(f"{name} = {factor!r} * {quantity.units}")
+    return ureg.Unit(name)
 
 
 def parse_quantity(variable: str, text: str, units: object) -> float:
@@ -164,7 +190,13 @@ def scale_to(unit: pint.Unit, target: str) -> float:
 
 
 def udunits_string(unit: pint.Unit | str) -> str:
-    """Write a unit as a UDUNITS-2 string (``m s-1``, ``knot``; never ``kn``).
+    """Write a unit as a UDUNITS-2 string meaning the same quantity (factor 1).
+
+    pint's symbols that UDUNITS-2 reads otherwise are rewritten (``kn`` ->
+    ``knot``, ``mph`` -> ``mi h-1``, ``kph`` -> ``km h-1``); a unit UDUNITS-2
+    has no name for is written as a scaled SI unit (``furlong/fortnight`` ->
+    ``0.00016630985642923665 m s-1``), which UDUNITS-2 and :func:`parse_units`
+    read exactly.
 
     Examples
     --------
@@ -172,9 +204,48 @@ def udunits_string(unit: pint.Unit | str) -> str:
     'm s-1'
     >>> udunits_string("knot")
     'knot'
+    >>> udunits_string("mph")
+    'mi h-1'
     """
-    text = f"{_parse(unit) if isinstance(unit, str) else unit:cf}"
+    unit = _parse(unit) if isinstance(unit, str) else unit
+    spelled = ureg.Unit("")
+    for name, power in unit._units.items():
+        if _is_safe(f"{ureg.Unit(name):cf}"):
+            spelled *= ureg.Unit(name) ** power
+            continue
+        parts = _definition(name)
+        if parts is None:
+            return _scaled_si(unit)
+        spelled *= parts**power
+    text = f"{spelled:cf}"
     return _TOKEN.sub(lambda m: _NOT_UDUNITS.get(m.group(0), m.group(0)), text)
+
+
+def _is_safe(text: str) -> bool:
+    return all(t in _UDUNITS_SAFE or t in _NOT_UDUNITS for t in _TOKEN.findall(text))
+
+
+def _definition(name: str) -> pint.Unit | None:
+    """A unit pint defines as an exact product of UDUNITS-safe units (mph = mile/hour)."""
+    definition = ureg._units.get(name)
+    converter = getattr(definition, "converter", None)
+    if definition is None or getattr(converter, "scale", None) != 1.0 or getattr(
+            converter, "offset", 0):
+        return None
+    parts = ureg.Unit("")
+    for part, power in definition.reference.items():
+        part_unit = ureg.Unit(part)
+        if not _is_safe(f"{part_unit:cf}"):
+            return None
+        parts *= part_unit**power
+    return parts
+
+
+def _scaled_si(unit: pint.Unit) -> str:
+    q = ureg.Quantity(1.0, unit).to_base_units()
+    base = f"{q.units:cf}"
+    factor = float(q.magnitude)
+    return base if factor == 1.0 else f"{factor!r} {base}"
 
 
 def _example(kind: str) -> str:

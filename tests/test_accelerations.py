@@ -368,7 +368,7 @@ def _inertial_line(frame, dt=1.0, layout="eager", n=601):
     times = t0 + (np.arange(n) * dt * 1e9).astype("timedelta64[ns]")
     start = _points(40.0, lon=10.0, h=5000.0, u=30.0, v=-20.0, w=5.0, dim="time")
     start = start.assign_coords(time=("time", times[:1]))
-    cart = frameshift.to_inertial(start, frame, basis="cartesian")
+    cart = frameshift.to_inertial(start, frame, basis="cartesian").transpose(..., "component")
     r0, v0 = cart["position"].values[0], cart["velocity"].values[0]
     pos = r0 + (np.arange(n) * dt)[:, None] * v0
     attrs = {"reference_frame": "inertial", "inertial_axes": "CIRS"}

@@ -141,7 +141,9 @@ def test_term_maps_labels_and_values(figures):
 
     ax = _axes_titled(fig, "centrifugal, upward")
     (mesh,) = [c for c in ax.collections if isinstance(c, QuadMesh)]
-    assert mesh.get_cmap().name == plotting.MAGNITUDE_CMAP  # away from the axis: one sign
+    # one diverging palette for every signed term, even one that keeps its sign
+    assert mesh.get_cmap().name == plotting.SIGNED_CMAP
+    assert mesh.norm.vmin == pytest.approx(-mesh.norm.vmax)
     assert "zero everywhere" in [
         t.get_text() for t in _axes_titled(fig, "centrifugal, eastward").texts
     ]
@@ -162,7 +164,7 @@ def test_timeseries_labels_and_values(figures, mooring):
     fig, _ = figures["series"]
     terms = frameshift.apparent_accelerations(mooring)
     labels = _labels(fig)
-    assert "time (UTC)" in labels and "depth (m)" in labels
+    assert "days since 2031-09-01 00:00 (standard calendar)" in labels and "depth (m)" in labels
     line_axes = [ax for ax in fig.axes if ax.lines and _COMPONENT_TITLE.match(ax.get_title("left"))]
     assert len(line_axes) == 11  # 4 terms x 3 components, less the zero centrifugal eastward
     assert all(ax.get_ylabel().endswith(ACCEL) for ax in line_axes)
@@ -172,6 +174,10 @@ def test_timeseries_labels_and_values(figures, mooring):
     scale = 10.0 ** _power_of_ten(ax.get_ylabel())
     expected = terms["coriolis_northward"].sel(depth=10.0)
     np.testing.assert_allclose(np.asarray(line.get_ydata()) * scale, expected.values)
+    # the time axis starts where the data start, in days since the first time
+    elapsed = (mooring.time.values - mooring.time.values[0]) / np.timedelta64(1, "D")
+    np.testing.assert_allclose(line.get_xdata(), elapsed)
+    assert ax.get_xlim()[0] == 0.0
     # the inertial period of the bar is 2π/f at the mooring's latitude
     f = 2 * frameshift.EARTH.rotation_rate * np.sin(np.deg2rad(float(mooring.lat)))
     period_h = 2 * np.pi / f / 3600
@@ -265,3 +271,29 @@ def test_plotting_imports_without_matplotlib():
     )
     assert done.returncode == 0, done.stderr
     assert "pip install 'frameshift[plot]'" in done.stdout
+
+
+@pytest.mark.parametrize("calendar", ["noleap", "360_day", "julian", "proleptic_gregorian"])
+def test_timeseries_on_every_cf_calendar(tmp_path, mooring, calendar):
+    # a terms file written and reopened with a model calendar holds cftime values
+    terms = frameshift.apparent_accelerations(mooring.isel(depth=[0, 1]), terms="coriolis")
+    terms["time"].encoding = {"units": "hours since 2031-09-01", "calendar": calendar}
+    terms["time"].attrs["units_metadata"] = "leap_seconds: none"
+    terms.attrs.update(title="calendar test", Conventions="CF-1.11")
+    for name in terms.coords:
+        terms[name].encoding["_FillValue"] = None
+    terms.to_netcdf(tmp_path / "t.nc")
+    if calendar == "noleap":  # the file is valid CF (IOOS compliance checker, cf:1.11)
+        from tests.test_io import assert_cf_clean
+
+        assert_cf_clean(tmp_path / "t.nc")
+    with xr.open_dataset(tmp_path / "t.nc", use_cftime=True) as back:
+        fig = plotting.plot_terms_timeseries(back, path=tmp_path / "t.png")
+    ax = _axes_titled(fig, "Coriolis, northward")
+    line = max(ax.lines, key=lambda ln: len(ln.get_ydata()))
+    hours = (mooring.time.values - mooring.time.values[0]) / np.timedelta64(1, "D")
+    # the same elapsed times whatever the calendar (these dates have no 29 February)
+    np.testing.assert_allclose(line.get_xdata(), hours)
+    assert f"({calendar} calendar)" in ax.get_xlabel() or f"({calendar} calendar)" in " ".join(
+        a.get_xlabel() for a in fig.axes)
+    assert (tmp_path / "t.png").stat().st_size > 20_000

@@ -39,6 +39,7 @@ from frameshift._kernels import geodesy
 __all__ = [
     "COMPONENTS",
     "TERMS",
+    "TOTALS",
     "accelerations",
     "accelerations_named",
     "centrifugal",
@@ -57,9 +58,24 @@ TERMS = ("coriolis", "centrifugal", "euler", "curvature")
 COMPONENTS = ("eastward", "northward", "upward")
 
 
-def output_names(terms: tuple[str, ...]) -> tuple[str, ...]:
-    """Names of the outputs of :func:`accelerations`, in order: ``<term>_<component>``, totals."""
-    return tuple(f"{t}_{c}" for t in (*terms, "total") for c in COMPONENTS)
+#: The sums :func:`accelerations` can return: of every term asked for ("full"), or of
+#: every term asked for but the centrifugal one ("without_centrifugal"), for users
+#: who count the centrifugal acceleration in an effective gravity.
+TOTALS = ("full", "without_centrifugal")
+_TOTAL_NAMES = {"full": "total", "without_centrifugal": "total_without_centrifugal"}
+
+
+def output_names(terms: tuple[str, ...], totals: tuple[str, ...] = ("full",)) -> tuple[str, ...]:
+    """Names of the outputs of :func:`accelerations`, in order: ``<term>_<component>``,
+    then ``total_<component>`` and ``total_without_centrifugal_<component>`` as asked.
+
+    Examples
+    --------
+    >>> output_names(("coriolis",), ())
+    ('coriolis_eastward', 'coriolis_northward', 'coriolis_upward')
+    """
+    sums = [_TOTAL_NAMES[t] for t in TOTALS if t in totals]
+    return tuple(f"{t}_{c}" for t in (*terms, *sums) for c in COMPONENTS)
 
 
 # --- the four terms, one function each (for readers and for tests) ---------------------
@@ -169,6 +185,7 @@ def accelerations(
     scale: tuple[float, float, float] = (1.0, 1.0, 1.0),
     terms: tuple[str, ...] = TERMS,
     traditional: bool = False,
+    totals: tuple[str, ...] = ("full",),
 ):
     """Every requested term and the totals, as a tuple ordered like :func:`output_names`.
 
@@ -195,6 +212,9 @@ def accelerations(
         Subset of :data:`TERMS`, in output order.
     traditional : bool
         Drop the 2Ω cos φ Coriolis terms and the curvature terms in w or upward.
+    totals : tuple of str
+        Subset of :data:`TOTALS`: the sum of all terms asked for (``"full"``)
+        and/or of all of them but the centrifugal term (``"without_centrifugal"``).
 
     Returns
     -------
@@ -245,12 +265,15 @@ def accelerations(
 
     parts: dict[str, list] = {c: [] for c in COMPONENTS}  # contributions to the totals
     results: list = []
+    centrifugal_parts: dict[str, object] = {}
 
-    def emit(values):
+    def emit(values, term):
         for comp, value in zip(COMPONENTS, values, strict=True):
             results.append(value)
             if value is not None:
                 parts[comp].append(value)
+                if term == "centrifugal":
+                    centrifugal_parts[comp] = value
 
     for term in terms:
         if term == "coriolis":
@@ -262,20 +285,20 @@ def accelerations(
                 east = _subtract(east, w, _fold(fr, sw), temp)
             north = _neg(np.multiply(u, _fold(fs, su)))
             up = None if traditional else np.multiply(u, _fold(fr, su))
-            emit((east, north, up))
+            emit((east, north, up), term)
         elif term == "centrifugal":
             k = np.square(omega) * p
-            emit((None, _neg(k * sin_lat), k * cos_lat))
+            emit((None, _neg(k * sin_lat), k * cos_lat), term)
         elif term == "euler":
             if not off_axis:  # dΩ/dt on the axis: -(dΩ/dt × r) = -Ω̇ p east, nothing else
-                emit((p * (0.0 - rz), None, None))  # 0.0 - rz: no -0.0 for a zero rate
+                emit((p * (0.0 - rz), None, None), term)  # 0.0 - rz: no -0.0 for zero
             else:
                 rn = -n * e2 * sin_lat * cos_lat  # r on local axes: (0, rn, ru)
                 ru = n * d + h
                 rate = np.stack(np.broadcast_arrays(rx, ry, rz), axis=-1)
                 enu = geodesy.cartesian_to_enu(lat, np.deg2rad(lon_deg), rate)
                 ae, an, au = enu[..., 0], enu[..., 1], enu[..., 2]
-                emit((au * rn - an * ru + 0.0, ae * ru + 0.0, -ae * rn + 0.0))
+                emit((au * rn - an * ru + 0.0, ae * ru + 0.0, -ae * rn + 0.0), term)
         elif term == "curvature":
             inv_n = 1.0 / nh
             tan_n = (sin_lat / cos_lat) * inv_n
@@ -294,12 +317,20 @@ def accelerations(
                     east = _subtract(east, uw, _fold(inv_n, su * sw), temp)
                     vw = np.multiply(v, w, out=temp())
                     north = _subtract(north, vw, _fold(inv_m, sv * sw), temp)
-            emit((east, north, up))
+            emit((east, north, up), term)
     scratch.clear()
 
-    totals = [_sum(parts[c], shape) for c in COMPONENTS]
+    for total in totals:
+        if total not in TOTALS:
+            raise ValueError(f"unknown total {total!r}; expected one of {TOTALS}")
+    sums = []
+    if "full" in totals:
+        sums += [_sum(parts[c], shape) for c in COMPONENTS]
+    if "without_centrifugal" in totals:  # the same additions, the centrifugal part left out
+        sums += [_sum([x for x in parts[c] if x is not centrifugal_parts.get(c)], shape)
+                 for c in COMPONENTS]
     full = [_fresh(r, shape) for r in results]
-    return (*full, *totals)
+    return (*full, *sums)
 
 
 def _times(x: np.ndarray, k) -> np.ndarray:

@@ -49,10 +49,14 @@ from frameshift.errors import (
 )
 from frameshift.frames import EARTH, Ellipsoid, Frame, Instants, Plane, check_frame
 
-__all__ = ["TERMS", "TERM_FORMULAS", "apparent_accelerations", "coriolis_parameters"]
+__all__ = ["TERMS", "TERM_FORMULAS", "TOTALS", "apparent_accelerations", "coriolis_parameters"]
 
 #: The apparent-acceleration terms, in output order.
 TERMS = ak.TERMS
+#: The sums on offer: ``"full"`` (``total_*``, every term asked for: what closes the
+#: budget of a free body) and ``"without_centrifugal"`` (``total_without_centrifugal_*``,
+#: for users who count the centrifugal term in an effective gravity).
+TOTALS = ak.TOTALS
 
 _LABELS = {
     "coriolis": "Coriolis",
@@ -111,6 +115,7 @@ def apparent_accelerations(
     velocity: Mapping[str, str] | list[Mapping[str, str]] | None = None,
     height: object = None,
     include_parameters: bool = False,
+    totals: str | Iterable[str] = "full",
     latitude: str | None = None,
     longitude: str | None = None,
     vertical: str | None = None,
@@ -174,6 +179,12 @@ def apparent_accelerations(
     include_parameters : bool, default False
         Also return ``coriolis_parameter`` (2Ω sin φ) and
         ``reciprocal_coriolis_parameter`` (2Ω cos φ) on the latitude's dimensions.
+    totals : str or iterable of str, default "full"
+        Which sums to return: ``"full"`` (``total_<component>``, the sum of
+        every term asked for, which closes the momentum budget of a free
+        body), ``"without_centrifugal"`` (``total_without_centrifugal_<component>``,
+        for users who fold the centrifugal term into an effective gravity and
+        would otherwise count it twice), both, or ``()`` for none.
     latitude, longitude, vertical, time : str, optional
         Name coordinates the file does not mark, or resolve a choice it leaves open.
     latitude_kind : {"planetographic", "planetocentric"}
@@ -182,8 +193,9 @@ def apparent_accelerations(
     Returns
     -------
     xarray.Dataset
-        Variables ``<term>_<component>`` for each term asked for and
-        ``total_eastward``, ``total_northward``, ``total_upward``; float64, m s-2,
+        Variables ``<term>_<component>`` for each term asked for and the
+        sums asked for (by default ``total_eastward``, ``total_northward``,
+        ``total_upward``); float64, m s-2,
         on the velocity's dimensions and coordinates. No standard names: the
         CF table (v93) has none for these terms.
 
@@ -224,6 +236,7 @@ def apparent_accelerations(
         )
         return restore_latitudes(out, ds, names, latitude_kind, frame)
     chosen = _check_terms(terms)
+    sums = _check_totals(totals)
     traditional = bool(traditional)
     layout = _layout(ds, velocity, height, latitude, longitude, vertical, time)
     tags = _set_tags(layout)
@@ -232,7 +245,7 @@ def apparent_accelerations(
     parameters: dict = {}
     for vset, tag in zip(layout.sets, tags, strict=True):
         east = ds[vset.eastward]
-        omega, found = _one_set(ds, frame, vset, chosen, traditional, tag)
+        omega, found = _one_set(ds, frame, vset, chosen, traditional, tag, sums)
         variables.update(found)
         coords.update({k: v.variable for k, v in east.coords.items()})
         if include_parameters and vset.position.latitude not in parameters:
@@ -247,7 +260,7 @@ def apparent_accelerations(
     listing = converted[0] if len(converted) == 1 else converted
     op = (
         f"apparent_accelerations(terms={list(chosen)}, traditional={traditional}, "
-        f"frame={frame.name!r}) from {listing}"
+        f"totals={list(sums)}, frame={frame.name!r}) from {listing}"
     )
     return stamp(out, op)
 
@@ -262,7 +275,7 @@ def _set_tags(layout: Layout) -> list[str]:
     ]
 
 
-def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
+def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag, sums):
     east = ds[vset.eastward]
     dims = tuple(east.dims)
     h = height_values(ds, vset.position, floor=floor_of(frame))
@@ -295,7 +308,7 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
     if lon_needed and "euler" in chosen:
         names.append("lon_deg")
         inputs.append(lon)
-    outputs = ak.output_names(chosen)
+    outputs = ak.output_names(chosen, sums)
     results = apply_kernel(
         ak.accelerations_named,
         *inputs,
@@ -306,12 +319,13 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag):
             "scale": tuple(scales),
             "terms": chosen,
             "traditional": traditional,
+            "totals": sums,
         },
     )
     common = _common_attrs(ds, vset, frame)
     variables = {}
     for name, data in zip(outputs, results, strict=True):
-        term, comp = name.split("_")
+        term, comp = name.rsplit("_", 1)
         attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
         data = data.variable  # in the velocity's dimension order, with one transpose
         variables[name + tag] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
@@ -370,6 +384,20 @@ def _check_terms(terms: str | Iterable[str] | None) -> tuple[str, ...]:
             found=found,
         )
     return tuple(t for t in TERMS if t in asked)
+
+
+def _check_totals(totals: str | Iterable[str] | None) -> tuple[str, ...]:
+    asked = () if totals is None else (totals,) if isinstance(totals, str) else tuple(totals)
+    unknown = [t for t in asked if t not in TOTALS]
+    if unknown:
+        raise ConventionError(
+            f"totals= has unknown sums ({', '.join(map(repr, unknown))}); valid sums are "
+            f"{', '.join(map(repr, TOTALS))}",
+            variable="totals",
+            expected=" | ".join(TOTALS),
+            found=", ".join(map(repr, unknown)),
+        )
+    return tuple(t for t in TOTALS if t in asked)
 
 
 def _layout(ds: xr.Dataset, velocity, height, latitude, longitude, vertical, time) -> Layout:
@@ -448,11 +476,18 @@ def _common_attrs(ds: xr.Dataset, vset: VelocitySet, frame: Frame) -> dict:
 
 def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
     attrs = dict(common)
-    if term == "total":
-        attrs["long_name"] = f"{comp} sum of apparent accelerations ({', '.join(chosen)})"
-        attrs["acceleration_term"] = "total"
-        attrs["terms_included"] = " ".join(chosen)
-        affected = traditional and ({"coriolis", "curvature"} & set(chosen))
+    if term.startswith("total"):
+        included = [t for t in chosen if term == "total" or t != "centrifugal"]
+        if term == "total":
+            attrs["long_name"] = (f"{comp} sum of all apparent accelerations asked for "
+                                  f"({', '.join(included)})")
+        else:
+            attrs["long_name"] = (f"{comp} sum of apparent accelerations without the "
+                                  f"centrifugal term ({', '.join(included) or 'none'}), for "
+                                  "use beside an effective gravity that includes it")
+        attrs["acceleration_term"] = term
+        attrs["terms_included"] = " ".join(included)
+        affected = traditional and ({"coriolis", "curvature"} & set(included))
     else:
         attrs["long_name"] = f"{comp} {_LABELS[term]} acceleration"
         attrs["acceleration_term"] = term
@@ -468,6 +503,10 @@ def _term_attrs(term, comp, chosen, traditional, frame, common) -> dict:
             )
             attrs["comment"] = f"{attrs['comment']}; {note}" if "comment" in attrs else note
     attrs["acceleration_component"] = comp
+    made_of = attrs["terms_included"].split() if term.startswith("total") else [term]
+    if {"coriolis", "curvature"} & set(made_of):
+        # the setting that changes these values, whichever way it went
+        attrs["traditional_approximation"] = "applied" if traditional else "not applied"
     if affected:
         attrs["approximation"] = _TRADITIONAL_NOTE
     return attrs

@@ -36,7 +36,7 @@ from frameshift.frames.celestial import AXES_DEFINITIONS, body_to_inertial_matri
 from frameshift.transforms.local import stamped
 from frameshift.units import parse_units, scale_to
 
-__all__ = ["STASH", "from_cartesian", "to_cartesian"]
+__all__ = ["DUT1_ATTR", "STASH", "from_cartesian", "is_cartesian", "recorded", "to_cartesian"]
 
 #: attribute of a Cartesian velocity recording the body-relative components it came from
 STASH = "rotating_frame_variables"
@@ -85,10 +85,10 @@ def _dut1_values(dut1, t: xr.DataArray) -> np.ndarray:
     if not np.all(np.abs(values) <= 1.0):
         raise ConventionError(
             "dut1 (UT1 - UTC) must be in seconds and within ±1 s (UTC is kept within 0.9 s "
-            f"of UT1); found values up to {float(np.nanmax(np.abs(values)))!r}",
+            f"of UT1); found values up to {float(np.nanmax(np.abs(values))):g} s",
             variable="dut1",
             expected="|dut1| <= 1 s",
-            found=str(float(np.nanmax(np.abs(values)))),
+            found=f"{float(np.nanmax(np.abs(values))):g} s",
         )
     return np.array(values, dtype=np.float64)
 
@@ -127,6 +127,9 @@ def to_cartesian(ds, frame: Frame, layout: Layout, celestial: str, dut1) -> xr.D
             matrices[time_name] = _time_matrices(ds, frame, time_name, celestial, dut1)
         m, o = matrices[time_name]
         pos, vel = _one_set(ds, frame, vset, m, o)
+        # component first, left of the space-time dimensions (CF 1.11 §2.4), in memory
+        # as on disk
+        pos, vel = pos.transpose("component", ...), vel.transpose("component", ...)
         common = {
             "reference_frame": INERTIAL,
             "reference_body": frame.name,
@@ -139,6 +142,8 @@ def to_cartesian(ds, frame: Frame, layout: Layout, celestial: str, dut1) -> xr.D
                     "cirs", "gcrs") else [])
             ),
         }
+        if not isinstance(dut1, xr.DataArray) and np.ndim(dut1) == 0:
+            common[DUT1_ATTR] = float(dut1)  # the way back needs the same value
         record = {"family": vset.family}
         for comp in vset.components:
             attrs = ds.variables[comp.name].attrs
@@ -225,6 +230,10 @@ def _one_set(ds, frame: Frame, vset: VelocitySet, m, o):
     )
 
 
+#: Attribute of Cartesian outputs recording the UT1 - UTC (s) they were made with.
+DUT1_ATTR = "ut1_minus_utc_seconds"
+
+
 def _is_zero(dut1) -> bool:
     return not isinstance(dut1, xr.DataArray) and np.all(np.asarray(dut1) == 0)
 
@@ -236,6 +245,39 @@ def cartesian_pairs(ds: xr.Dataset) -> list[tuple[str, str]]:
         if "component" in var.dims and (STASH in var.attrs or name == "velocity"):
             pairs.append((str(var.attrs.get("position_variable", "position")), str(name)))
     return pairs
+
+
+def is_cartesian(ds: xr.Dataset) -> bool:
+    """Whether ``ds`` holds inertial positions and velocities on a ``component`` axis (as
+    ``--basis cartesian`` writes them).
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> is_cartesian(xr.Dataset())
+    False
+    """
+    return bool(cartesian_pairs(ds))
+
+
+def recorded(ds: xr.Dataset, key: str, default: object) -> object:
+    """What the (first) Cartesian velocity of ``ds`` records under ``key`` (its
+    ``inertial_axes``, its :data:`DUT1_ATTR`), as the type of ``default``; else ``default``.
+
+    Examples
+    --------
+    >>> import xarray as xr
+    >>> recorded(xr.Dataset(), "inertial_axes", "cirs")
+    'cirs'
+    """
+    for _, name in cartesian_pairs(ds):
+        value = ds[name].attrs.get(key)
+        if value is not None:
+            try:
+                return type(default)(value) if not isinstance(default, str) else str(value)
+            except (TypeError, ValueError):
+                return default
+    return default
 
 
 def from_cartesian(ds: xr.Dataset, frame: Frame, celestial: str, dut1) -> xr.Dataset:
@@ -257,7 +299,7 @@ def _check_cartesian(ds: xr.Dataset, name: str, celestial: str) -> None:
             f"to_rotating(basis='cartesian') needs a variable {name!r} with a "
             "'component' dimension (as to_inertial(basis='cartesian') writes)",
             variable=name,
-            expected=f"{name}(..., component)",
+            expected=f"{name}(component, ...)",
             found="absent",
         )
     var = ds[name]

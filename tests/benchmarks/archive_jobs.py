@@ -85,6 +85,18 @@ def copy(src: str, dst: str, encoding_from: str | None = None, durable: bool = F
             os.fsync(fh.fileno())
 
 
+def zarr_copy(src: str, dst: str) -> None:
+    """Plain xarray: open lazily in the file's own chunks, write a consolidated Zarr store
+    (Zarr format 2, as frameshift writes) with xarray's default encoding for Zarr."""
+    import xarray as xr
+
+    ds = xr.open_dataset(src, chunks={})
+    for var in ds.variables.values():
+        var.encoding = {k: v for k, v in var.encoding.items()
+                        if k in ("dtype", "_FillValue", "units", "calendar")}
+    ds.to_zarr(dst, mode="w", consolidated=True, zarr_format=2)
+
+
 def measure(cmd: list[str]) -> dict:
     t0 = time.perf_counter()
     proc = subprocess.run(cmd, capture_output=True, text=True)
@@ -106,6 +118,8 @@ def main(argv: list[str]) -> int:
         durable = "--fsync" in argv
         rest = [a for a in argv[1:] if a != "--fsync"]
         copy(rest[0], rest[1], rest[2] if len(rest) > 2 else None, durable)
+    elif what == "zarr-copy":
+        zarr_copy(argv[1], argv[2])
     elif what == "measure":
         print(json.dumps(measure(argv[argv.index("--") + 1 :])))
     else:

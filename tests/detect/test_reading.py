@@ -117,7 +117,8 @@ def test_glider_cartesian_positions_at_the_velocity_times_and_places(layout):
     expected = inertial_position(
         ds["lat_uv"].values, ds["lon_uv"].values, np.zeros(4), ds["time_uv"].values
     )
-    np.testing.assert_allclose(out["position"].values, expected, rtol=0, atol=1e-3)  # 1 mm
+    position = out["position"].transpose(..., "component")  # stored component first
+    np.testing.assert_allclose(position.values, expected, rtol=0, atol=1e-3)  # 1 mm
     back = frameshift.to_rotating(out, basis="cartesian")
     np.testing.assert_allclose(back["u"].values, ds["u"].values, atol=1e-9 * 500)
 
@@ -288,11 +289,11 @@ def test_buoy_cartesian_and_terms_hold_both_sets(layout):
         cart.data_vars
     )
     expected = inertial_position(44.5, -9.25, 4.0, ds["time"].values)
-    np.testing.assert_allclose(cart["position_wind"].values, expected, rtol=0, atol=1e-3)
+    wind = cart["position_wind"].transpose(..., "component")  # stored component first
+    np.testing.assert_allclose(wind.values, expected, rtol=0, atol=1e-3)
     below = inertial_position(44.5, -9.25, -12.0, ds["time"].values)
-    np.testing.assert_allclose(
-        cart["position_sea_water"].isel(depth=1).values, below, rtol=0, atol=1e-3
-    )
+    water = cart["position_sea_water"].transpose(..., "component")
+    np.testing.assert_allclose(water.isel(depth=1).values, below, rtol=0, atol=1e-3)
     back = frameshift.to_rotating(cart, basis="cartesian")
     np.testing.assert_allclose(back["cur_u"].values, ds["cur_u"].values, atol=1e-9 * 50000)
     np.testing.assert_allclose(back["wind_v"].values, ds["wind_v"].values, atol=1e-9 * 1000)

@@ -1,0 +1,133 @@
+"""Zarr stores in and out, with the guarantees NetCDF files have.
+
+Outside sources: the Zarr v2 storage specification (consolidated metadata in
+``.zmetadata``, read here by zarr-python itself), IEEE 754 binary32 for the
+float32 round-trip bound, and the IOOS compliance checker's CF 1.11 suite on
+the NetCDF files made from the stores.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+import xarray as xr
+
+from frameshift import batch, io
+from frameshift.cli import main
+from tests.helpers import raise_if_dask_computes
+from tests.test_io import assert_cf_clean
+
+zarr = pytest.importorskip("zarr")
+
+DEMO = Path(__file__).resolve().parent.parent / "data_demo"
+WIND = "eastward=wspd_u,northward=wspd_v"
+OMEGA_A = 7.292115e-5 * 6378137.0  # Ω a, WGS 84 (NIMA TR8350.2), m s-1
+
+
+def _run(*args) -> int:
+    return main([*map(str, args), "--quiet"])
+
+
+@pytest.fixture(scope="module")
+def stores(tmp_path_factory) -> Path:
+    root = tmp_path_factory.mktemp("zarr")
+    steps = [
+        ("convert", DEMO / "packed_knots.nc", "--velocity", WIND, "--format", "zarr",
+         "--out", root / "local"),
+        ("convert", root / "local" / "packed_knots.zarr", "--velocity", WIND, "--to", "rotating",
+         "--out", root / "local_back"),
+        ("convert", DEMO / "tiny_example.nc", "--basis", "cartesian", "--format", "zarr",
+         "--out", root / "cart"),
+        ("convert", root / "cart" / "tiny_example.zarr", "--to", "rotating", "--format", "netcdf",
+         "--out", root / "cart_back"),
+        ("terms", DEMO / "tiny_example.nc", "--format", "zarr", "--out", root / "terms"),
+    ]
+    for step in steps:
+        assert _run(*step) == 0, step
+    return root
+
+
+def test_outputs_are_consolidated_zarr_stores(stores):
+    for path in (stores / "local" / "packed_knots.zarr", stores / "cart" / "tiny_example.zarr",
+                 stores / "terms" / "tiny_example.zarr"):
+        assert (path / ".zmetadata").is_file()  # Zarr v2 consolidated metadata
+        group = zarr.open_consolidated(str(path), mode="r")
+        assert len(list(group.array_keys())) > 0
+        assert io.manifest_path(path).is_file()
+    # no temporary store left beside them
+    assert not [p for p in stores.rglob(".*.part")]
+
+
+def test_zarr_round_trip_restores_the_input(stores):
+    with xr.open_dataset(DEMO / "packed_knots.nc") as a, \
+            xr.open_zarr(stores / "local_back" / "packed_knots.zarr") as b:
+        for name in ("wspd_u", "wspd_v"):
+            assert b[name].encoding["dtype"] == np.float32 or name == "wspd_v"
+            # packed int16 knots in: float32 out; one rounding each way (README bound),
+            # Ω a in knots (1 knot = 1852/3600 m s-1, by definition)
+            bound = 2.0**-23 * (float(np.nanmax(np.abs(a[name]))) + OMEGA_A * 3600 / 1852)
+            assert float(np.nanmax(np.abs(a[name] - b[name]))) <= bound
+        assert b["time"].encoding["calendar"] == "noleap"
+
+
+def test_untouched_variables_are_unchanged_in_the_store(stores):
+    with xr.open_dataset(DEMO / "packed_knots.nc", decode_cf=False) as a, \
+            xr.open_zarr(stores / "local" / "packed_knots.zarr", decode_cf=False) as b:
+        for name in ("cur_u", "cur_v", "sea_water_temperature", "time", "lat", "lon"):
+            assert b[name].dtype == a[name].dtype, name
+            np.testing.assert_array_equal(b[name].values, a[name].values, err_msg=name)
+            assert b[name].attrs == a[name].attrs, name
+
+
+def test_cartesian_store_is_labelled_and_converts_back(stores):
+    with xr.open_zarr(stores / "cart" / "tiny_example.zarr") as cart:
+        assert cart["component"].values.tolist() == ["x", "y", "z"]
+        assert cart["velocity"].dims[0] == "component"
+        assert cart["velocity"].sel(component="z").ndim == cart["velocity"].ndim - 1
+    back = stores / "cart_back" / "tiny_example.nc"
+    with xr.open_dataset(DEMO / "tiny_example.nc") as a, xr.open_dataset(back) as b:
+        for name in ("eastward_wind", "northward_wind"):
+            # two float32 roundings (position and velocity), README bound
+            bound = 2.0**-22 * (float(np.abs(a[name]).max()) + OMEGA_A)
+            assert float(np.abs(a[name] - b[name]).max()) <= bound
+    assert_cf_clean(back)  # IOOS compliance checker, cf:1.11
+
+
+def test_rerun_skips_and_overwrite_redoes(stores, capsys):
+    args = ("convert", DEMO / "tiny_example.nc", "--basis", "cartesian", "--format", "zarr",
+            "--out", stores / "cart")
+    assert main([*map(str, args)]) == 0
+    assert "skipped" in capsys.readouterr().out
+    before = (stores / "cart" / "tiny_example.zarr" / ".zmetadata").stat().st_mtime_ns
+    assert main([*map(str, args), "--overwrite", "--quiet"]) == 0
+    assert (stores / "cart" / "tiny_example.zarr" / ".zmetadata").stat().st_mtime_ns > before
+
+
+def test_a_failed_store_write_leaves_nothing(tmp_path, monkeypatch):
+    class Boom(RuntimeError):
+        pass
+
+    def fail(*args, **kwargs):
+        raise Boom("injected failure mid-write")
+
+    ds = xr.Dataset({"a": ("x", np.arange(4.0))}).chunk({"x": 2})
+    target = tmp_path / "a.zarr"
+    io.write_store_atomic(ds, target)  # an earlier store, kept if the next write fails
+    monkeypatch.setattr(io.os, "replace", fail)
+    with pytest.raises(Boom):
+        io.write_store_atomic(ds * 2, target)
+    monkeypatch.undo()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.zarr"]
+    with xr.open_zarr(target) as back:
+        np.testing.assert_array_equal(back["a"].values, np.arange(4.0))
+
+
+def test_zarr_input_stays_lazy(stores):
+    ds, raw = io.open_input(stores / "cart" / "tiny_example.zarr", memory=10**6)
+    with ds, raw, raise_if_dask_computes():
+        result = batch.convert_operation("rotating", basis="auto", celestial=None,
+                                         dut1=None).apply(ds)
+        plan, how = io.prepare_output(result, ds, raw, target="zarr")
+    assert all(plan[n].chunks for n, h in how.items() if h == "computed" and plan[n].ndim)
