@@ -16,7 +16,7 @@ import numpy as np
 import xarray as xr
 
 from frameshift.cf import stamp
-from frameshift.detect import find_layout, position_values
+from frameshift.detect import find_layout, position_values, require_dataset
 from frameshift.errors import InputTypeError, MissingInputError, UnitsError, UnsupportedInputError
 from frameshift.frames import Ellipsoid, check_frame
 from frameshift.units import parse_units, scale_to, ureg
@@ -64,19 +64,6 @@ class Velocity:
     vertical: str | None
     vertical_sign: float
     time: str | None
-
-
-def require_dataset(ds: object) -> xr.Dataset:
-    """``ds`` if it is a Dataset; :class:`InputTypeError` naming what was found otherwise."""
-    if not isinstance(ds, xr.Dataset):
-        raise InputTypeError(
-            f"expected an xarray.Dataset; found {type(ds).__name__}. "
-            "Wrap a DataArray with .to_dataset() so its coordinates come along",
-            variable="ds",
-            expected="xarray.Dataset",
-            found=type(ds).__name__,
-        )
-    return ds
 
 
 def as_plain(var: xr.DataArray | xr.Variable) -> xr.DataArray:
