@@ -42,7 +42,7 @@ from frameshift.units import parse_units, scale_to, udunits_string
 
 __all__ = ["earth_to_grid", "grid_angle", "grid_to_earth"]
 
-_LABEL = {"wind": "wind", "sea_water": "sea water velocity"}
+_LABEL = criteria.FAMILY_LABELS  # how each family is named in long names
 # below this angular distortion (degrees, PROJ) a projection counts as conformal
 _CONFORMAL_TOLERANCE = 1e-4
 

@@ -34,7 +34,7 @@ __all__ = ["DEFAULT_CONVENTION", "from_speed_direction", "to_speed_direction"]
 #: the direction each trade writes when it has the choice (common practice:
 #: meteorology reports where the wind comes from, oceanography where the current goes)
 DEFAULT_CONVENTION = {"wind": "from", "sea_water": "to"}
-_LABEL = {"wind": "wind", "sea_water": "sea water velocity"}
+_LABEL = criteria.FAMILY_LABELS  # how each family is named in long names
 _FAMILY_OF_SPEED = {t["speed"]: f for f, t in criteria.POLAR.items()}
 _FAMILY_OF_COMPONENT = {
     sn: (fam, axis)
