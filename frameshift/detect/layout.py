@@ -2,7 +2,7 @@
 
 :func:`read_layout` is the one door through which operations see a Dataset:
 it finds the velocity component sets (units parsed once), and for each set
-the position its ``coordinates`` name (latitude/longitude or x/y, vertical
+the position its ``coordinates`` name (latitude/longitude, vertical
 with its sign, time). Operations never re-find or re-parse; they take names,
 factors and notes from the :class:`Layout`, and values through
 :mod:`frameshift.detect.position`.
@@ -18,14 +18,13 @@ import xarray as xr
 from frameshift.detect import criteria
 from frameshift.detect.position import (
     Position,
-    declared_coordinates,
     find_axis,
     find_time,
     find_vertical,
     given_height,
 )
 from frameshift.detect.velocity import INERTIAL, Component, find_component_sets
-from frameshift.errors import InputTypeError, MissingInputError, UnsupportedInputError
+from frameshift.errors import InputTypeError, UnsupportedInputError
 from frameshift.units import parse_units, scale_to
 
 __all__ = ["Layout", "VelocitySet", "find_layout", "read_layout", "require_dataset"]
@@ -180,10 +179,7 @@ def read_layout(
     sets = []
     for family, basis, components in found:
         first = components[0].name
-        if basis == "planar":
-            position = _planar_position(ds, first, vertical, time, height)
-        else:
-            position = _geodetic_position(ds, first, latitude, longitude, vertical, time, height)
+        position = _geodetic_position(ds, first, latitude, longitude, vertical, time, height)
         for comp in components[1:]:
             _check_shares_position(ds, comp.name, first, position)
         sets.append(VelocitySet(family, basis, components, position))
@@ -218,34 +214,6 @@ def _geodetic_position(ds, first, latitude, longitude, vertical, time, height) -
     return Position(
         "geodetic", latitude=lat, longitude=lon, time=find_time(ds, first, time), **vert
     )
-
-
-def _planar_position(ds, first, vertical, time, height) -> Position:
-    axes = {}
-    for axis in ("x", "y"):
-        hits = [
-            n
-            for n in _own_or_dims(ds, first)
-            if str(ds.variables[n].attrs.get("axis", "")).upper() == axis.upper() or n == axis
-        ]
-        if len(hits) != 1:
-            raise MissingInputError(
-                f"a lab velocity {first!r} needs one {axis} coordinate (named {axis!r} or with "
-                f"axis={axis.upper()!r}, in length units); found {hits or 'none'}",
-                variable=axis,
-                expected=f"one {axis} coordinate",
-                found=", ".join(hits) or "none",
-            )
-        parse_units(hits[0], ds.variables[hits[0]].attrs.get("units"), "length")
-        axes[axis] = hits[0]
-    vert = _vertical_part(ds, first, vertical, height) if (vertical or height) else {
-        "notes": ("no z coordinate; points taken in the plane z = 0",)
-    }
-    return Position("planar", x=axes["x"], y=axes["y"], time=find_time(ds, first, time), **vert)
-
-
-def _own_or_dims(ds: xr.Dataset, name: str) -> list[str]:
-    return declared_coordinates(ds, name)[1]
 
 
 def _check_shares_position(ds: xr.Dataset, name: str, first: str, position: Position) -> None:

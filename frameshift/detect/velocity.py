@@ -2,8 +2,9 @@
 
 A Dataset may hold several sets (winds and currents; surface and depth-mean
 currents). Each set is a family (``wind``, ``sea_water``, or plain
-``velocity``), a basis (``local`` east/north/up, or ``planar`` x/y/z for a
-lab) and its components, each with its units parsed once.
+``velocity``), a basis (``local``: east/north/up; a lab's x/y/z fields have
+their own reader, :mod:`frameshift.detect.planar`) and its components, each
+with its units parsed once.
 """
 
 from __future__ import annotations
@@ -114,14 +115,23 @@ def _from_mapping(
 ) -> tuple[str, str, tuple[tuple[str, str], ...]]:
     """``(family, basis, ((axis, name), ...))`` of a set named by the caller."""
     keys = set(velocity)
-    basis = "planar" if keys & set(criteria.PLANAR_COMPONENTS) else "local"
-    valid = criteria.PLANAR_COMPONENTS if basis == "planar" else criteria.COMPONENTS
+    if keys & set(criteria.PLANAR_COMPONENTS):
+        raise ConventionError(
+            f"velocity= names components on a lab's x/y/z axes ({sorted(keys)}); these "
+            "belong to a plane frame: pass frame=frameshift.RotatingTable(...) (the lab-field "
+            "reader then places them); on a planet name eastward/northward[/upward]",
+            variable="velocity",
+            expected=", ".join(criteria.COMPONENTS),
+            found=", ".join(sorted(keys)),
+        )
+    basis = "local"
+    valid = criteria.COMPONENTS
     unknown = keys - set(valid)
     if unknown:
         raise ConventionError(
             f"velocity= has unknown component(s) {sorted(unknown)}; valid components are "
-            f"{list(criteria.COMPONENTS)} (east/north/up axes) or "
-            f"{list(criteria.PLANAR_COMPONENTS)} (a lab's x/y/z axes), not mixed",
+            f"{list(criteria.COMPONENTS)} (east/north/up axes), or "
+            f"{list(criteria.PLANAR_COMPONENTS)} with a plane frame (a lab table)",
             variable="velocity",
             expected=", ".join(valid),
             found=", ".join(sorted(unknown)),

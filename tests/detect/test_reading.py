@@ -335,3 +335,24 @@ def test_a_station_file_of_speed_and_direction_is_pointed_to_the_instrument_step
     converted = frameshift.to_inertial(frameshift.from_speed_direction(ds))
     # a wind from 270° at 5 m s-1 blows eastward: u = +5 (CF definition), plus Ω (N + 0) cos φ
     np.testing.assert_allclose(converted["eastward_wind"].values, 5.0 + frame_speed(60.0, 0.0))
+
+
+@eager_and_chunked
+def test_lab_axes_on_a_planet_are_refused_with_the_frame_that_takes_them(layout):
+    # x/y components of a lab (no CF standard names) belong to a plane frame; on the
+    # Earth frameshift refuses them by name rather than failing inside (common practice:
+    # a tank's axes are not east/north)
+    ds = as_layout(xr.Dataset(
+        {"u": (("y", "x"), np.ones((2, 3)), {"units": "m s-1"}),
+         "v": (("y", "x"), np.zeros((2, 3)), {"units": "m s-1"})},
+        coords={"x": ("x", [0.0, 0.1, 0.2], {"units": "m", "axis": "X"}),
+                "y": ("y", [0.0, 0.1], {"units": "m", "axis": "Y"})},
+    ), layout)
+    for operation in (frameshift.to_inertial, frameshift.apparent_accelerations):
+        with pytest.raises(frameshift.ConventionError, match="RotatingTable") as info:
+            operation(ds, velocity={"x": "u", "y": "v"})
+        assert info.value.variable == "velocity"
+    # with a table (and the time its angle needs) the same names are taken: tests/lab
+    with pytest.raises(frameshift.MissingInputError, match="time coordinate"):
+        frameshift.to_inertial(ds, frameshift.RotatingTable("10 rpm"),
+                               velocity={"x": "u", "y": "v"})
