@@ -231,10 +231,24 @@ def plan_output(
                         new.encoding["dtype"], precision)}
             if is_coord:
                 new.encoding["_FillValue"] = None
+        if how[name] != "copied" and not is_coord:
+            _keep_declared_coordinates(var, new, out)
         variables[name] = new
     data_vars = {n: v for n, v in variables.items() if n not in coords}
     coord_vars = {n: v for n, v in variables.items() if n in coords}
     return xr.Dataset(data_vars, coords=coord_vars, attrs=dict(out.attrs)), how
+
+
+def _keep_declared_coordinates(var: xr.Variable, new: xr.Variable, out: xr.Dataset) -> None:
+    """Write the ``coordinates`` a variable declared (those still in ``out``), not the
+    every-coordinate list xarray would make: a velocity on ``time_uv``/``lat_uv`` must
+    still say so in the output, or reading it back could not tell its position."""
+    text = var.attrs.get("coordinates", var.encoding.get("coordinates"))
+    if not isinstance(text, str):
+        return
+    kept = " ".join(n for n in text.split() if n in out.variables)
+    if kept:
+        new.encoding["coordinates"] = kept
 
 
 def _matches(raw: xr.Variable, var: xr.Variable) -> bool:

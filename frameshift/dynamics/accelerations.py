@@ -323,12 +323,15 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag, sums):
         },
     )
     common = _common_attrs(ds, vset, frame)
+    declared = east.attrs.get("coordinates", east.encoding.get("coordinates"))
     variables = {}
     for name, data in zip(outputs, results, strict=True):
         term, comp = name.rsplit("_", 1)
         attrs = _term_attrs(term, comp, chosen, traditional, frame, common)
         data = data.variable  # in the velocity's dimension order, with one transpose
         variables[name + tag] = xr.Variable(dims, data.transpose(*dims).data, attrs=attrs)
+        if isinstance(declared, str):  # the terms sit where the velocity sits: say so too
+            variables[name + tag].encoding["coordinates"] = declared
     return omega, variables
 
 

@@ -356,3 +356,27 @@ def test_lab_axes_on_a_planet_are_refused_with_the_frame_that_takes_them(layout)
     with pytest.raises(frameshift.MissingInputError, match="time coordinate"):
         frameshift.to_inertial(ds, frameshift.RotatingTable("10 rpm"),
                                velocity={"x": "u", "y": "v"})
+
+
+def test_written_files_keep_what_each_velocity_declares_and_convert_back(tmp_path):
+    # CF 1.11 §5: a variable's coordinates attribute names its auxiliary coordinates;
+    # frameshift's outputs must keep saying it, or reading them back cannot place them
+    import netCDF4
+
+    from frameshift.cli import main
+
+    src = tmp_path / "in" / "glider.nc"
+    src.parent.mkdir()
+    glider().to_netcdf(src)
+    assert main(["convert", str(src), "--out", str(tmp_path / "inertial"), "--quiet"]) == 0
+    assert main(["convert", str(tmp_path / "inertial" / "glider.nc"), "--to", "rotating",
+                 "--out", str(tmp_path / "back"), "--quiet"]) == 0
+    assert main(["terms", str(src), "--out", str(tmp_path / "terms"), "--quiet"]) == 0
+    for path, names in ((tmp_path / "inertial" / "glider.nc", ("u", "v")),
+                        (tmp_path / "back" / "glider.nc", ("u", "v")),
+                        (tmp_path / "terms" / "glider.nc", ("coriolis_eastward", "total_upward"))):
+        with netCDF4.Dataset(path) as nc:
+            for name in names:
+                assert nc[name].getncattr("coordinates") == "time_uv lat_uv lon_uv", (path, name)
+    with xr.open_dataset(src) as a, xr.open_dataset(tmp_path / "back" / "glider.nc") as b:
+        np.testing.assert_allclose(b["u"].values, a["u"].values, rtol=0, atol=1e-12 * 500)
