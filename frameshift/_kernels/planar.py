@@ -35,7 +35,6 @@ imports xarray or pint.
 from __future__ import annotations
 
 import numpy as np
-from scipy.interpolate import RegularGridInterpolator
 
 __all__ = [
     "DIRECTIONS",
@@ -232,6 +231,8 @@ def sample_linear(axis_y, axis_x, values, qy, qx):
         axis_y, values = axis_y[::-1], values[::-1]
     if axis_x.size > 1 and axis_x[0] > axis_x[-1]:
         axis_x, values = axis_x[::-1], values[:, ::-1]
+    from scipy.interpolate import RegularGridInterpolator  # here: importing frameshift stays quick
+
     interp = RegularGridInterpolator(
         (axis_y, axis_x), values, method="linear", bounds_error=False, fill_value=np.nan
     )
