@@ -4,6 +4,8 @@ and a closure test (an inertial straight line seen from the rotating frame)."""
 
 from __future__ import annotations
 
+import itertools
+
 import erfa
 import numpy as np
 import pytest
@@ -572,6 +574,30 @@ def test_terms_subset_and_totals(layout):
         )
     one = frameshift.apparent_accelerations(ds, terms="coriolis")
     assert not np.shares_memory(one["total_eastward"].values, one["coriolis_eastward"].values)
+
+
+def test_position_only_terms_are_views_sharing_nothing():
+    # On a grid, the centrifugal term depends on latitude and height only: it comes
+    # back as a read-only broadcast view (as numpy.broadcast_to / xarray.broadcast
+    # give), full-shaped, sharing memory with no other output and no input.
+    ds = BUILDERS["grid"]()
+    out = frameshift.apparent_accelerations(ds)
+    up = out["centrifugal_upward"]
+    assert up.shape == out["coriolis_upward"].shape
+    assert not up.values.flags.writeable
+    arrays = {k: out[k].values for k in out.data_vars}
+    for a, b in itertools.combinations(arrays, 2):
+        assert not np.shares_memory(arrays[a], arrays[b]), (a, b)
+    for name in ds.data_vars:
+        assert not any(np.shares_memory(ds[name].values, x) for x in arrays.values()), name
+    # values: Ω² (N + h) cos φ (sin φ, cos φ) on the ellipsoid (WGS 84 TR8350.2 N)
+    lat = np.deg2rad(ds["lat"])
+    e2 = F_WGS84 * (2 - F_WGS84)
+    n = A_WGS84 / np.sqrt(1 - e2 * np.sin(lat) ** 2)
+    expected = OMEGA**2 * (n + ds["z"]) * np.cos(lat) ** 2  # z: height above the ellipsoid
+    np.testing.assert_allclose(up, expected.broadcast_like(up).transpose(*up.dims), rtol=1e-12)
+    doubled = up.copy() * 2  # a copy is an ordinary writeable array
+    assert doubled.values.flags.writeable
 
 
 @eager_and_chunked

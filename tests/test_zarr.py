@@ -8,13 +8,14 @@ the NetCDF files made from the stores.
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import numpy as np
 import pytest
 import xarray as xr
 
-from frameshift import batch, io
+from frameshift import batch, io, safefiles
 from frameshift.cli import main
 from tests.helpers import raise_if_dask_computes
 from tests.test_io import assert_cf_clean
@@ -105,7 +106,8 @@ def test_rerun_skips_and_overwrite_redoes(stores, capsys):
     assert (stores / "cart" / "tiny_example.zarr" / ".zmetadata").stat().st_mtime_ns > before
 
 
-def test_a_failed_store_write_leaves_nothing(tmp_path, monkeypatch):
+@pytest.mark.parametrize("swap", ["exchange", "two renames"])
+def test_a_failed_store_write_leaves_nothing(tmp_path, monkeypatch, swap):
     class Boom(RuntimeError):
         pass
 
@@ -115,13 +117,43 @@ def test_a_failed_store_write_leaves_nothing(tmp_path, monkeypatch):
     ds = xr.Dataset({"a": ("x", np.arange(4.0))}).chunk({"x": 2})
     target = tmp_path / "a.zarr"
     io.write_store_atomic(ds, target)  # an earlier store, kept if the next write fails
-    monkeypatch.setattr(io.os, "replace", fail)
+    if swap == "two renames":  # a system without an atomic exchange
+        monkeypatch.setattr(safefiles, "exchange", lambda a, b: False)
+    monkeypatch.setattr(io.os, "replace", fail)  # the manifest's rename (or the store's) fails
     with pytest.raises(Boom):
-        io.write_store_atomic(ds * 2, target)
+        io.write_store_atomic(ds * 2, target, manifest={"inputs": [], "settings": {},
+                                                        "command": "test"})
     monkeypatch.undo()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["a.zarr"]
     with xr.open_zarr(target) as back:
         np.testing.assert_array_equal(back["a"].values, np.arange(4.0))
+
+
+def test_a_replaced_store_is_never_missing(tmp_path, monkeypatch):
+    # Where the system can swap two directories in one step (Linux renameat2), the
+    # new store replaces the old without a moment in which neither is at the path.
+    probe_a, probe_b = tmp_path / "p", tmp_path / "q"
+    probe_a.mkdir()
+    probe_b.mkdir()
+    if not safefiles.exchange(probe_a, probe_b):
+        pytest.skip("no atomic directory exchange on this system")
+    ds = xr.Dataset({"a": ("x", np.arange(4.0))})
+    target = tmp_path / "a.zarr"
+    io.write_store_atomic(ds, target)
+    moves = []
+    real_replace = os.replace
+
+    def spy(src, dst):
+        moves.append((Path(src), Path(dst)))
+        return real_replace(src, dst)
+
+    monkeypatch.setattr(io.os, "replace", spy)
+    io.write_store_atomic(ds * 3, target)
+    monkeypatch.undo()
+    assert not any(target in pair for pair in moves)  # never moved away, never moved in
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.zarr", "p", "q"]
+    with xr.open_zarr(target) as back:
+        np.testing.assert_array_equal(back["a"].values, 3 * np.arange(4.0))
 
 
 def test_zarr_input_stays_lazy(stores):

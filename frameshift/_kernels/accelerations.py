@@ -219,7 +219,9 @@ def accelerations(
     Returns
     -------
     tuple of ndarray
-        Each of the broadcast shape of all inputs, float64, freshly allocated.
+        Each of the broadcast shape of all inputs, float64, sharing no memory
+        with another output (or an input); a term that varies over fewer axes
+        than the inputs' broadcast shape is a read-only broadcast view.
 
     Examples
     --------
@@ -369,14 +371,19 @@ def _accumulate(x: np.ndarray, y: np.ndarray) -> np.ndarray:
 
 
 def _fresh(value, shape) -> np.ndarray:
-    """``value`` as a float64 array of ``shape``, not sharing memory with another output."""
+    """``value`` as a float64 array of ``shape``, not sharing memory with another output.
+
+    A term that varies over fewer axes than the output (the centrifugal term
+    of a latitude-height grid, say) comes back as a read-only broadcast view
+    of its own small array, as ``numpy.broadcast_to`` and ``xarray.broadcast``
+    give: copying it to the full shape would cost a full-size array of memory
+    and of page faults for no new number.
+    """
     if value is None:
         return np.zeros(shape)
     if np.shape(value) == shape and isinstance(value, np.ndarray):
         return value
-    out = np.empty(shape)
-    out[...] = value
-    return out
+    return np.broadcast_to(np.asarray(value, dtype=np.float64), shape)
 
 
 def _sum(values, shape) -> np.ndarray:

@@ -277,39 +277,69 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
         lat_f = [np.asarray(weights[n][1], dtype=np.float64) for n in index]
         lon_f = [np.asarray(weights[n][2], dtype=np.float64) for n in index]
         groups[field] = (index, lat_f, lon_f)
-    unit = None
-    ps_low = None
+    ps, ps_low = None, 0.0
     if kind in ("surface", "column"):
         ps = np.asarray(source, dtype=np.float64)
         ps_low = float(np.nanmin(ps)) if ps.size else 0.0
-    for k in range(nlev):
-        if kind == "surface":
-            top, bottom = float(np.min(bounds[k])), float(np.max(bounds[k]))
-            if bottom <= ps_low:  # wholly above the surface everywhere: one number
-                mass = np.float64((bottom - top) / gravity)
-            else:
-                mass = np.clip(np.minimum(bottom, ps) - top, 0.0, None) / gravity
-        elif kind == "levels":
-            mass = np.float64(thickness[k])
-        elif kind == "density":
-            mass = np.asarray(source[..., k, :, :], dtype=np.float64) * thickness[k]
-        else:
-            mass = ps / gravity
-        for field, (index, lat_f, lon_f) in groups.items():
-            if field == "1" and np.ndim(mass) == 0:  # Σ w is the same on every level
-                if unit is None:
-                    unit = _mass_sum(np.ones(horizontal), lat_f, lon_f, keep)
-                total = float(mass) * unit
-            elif field == "1":
-                total = _mass_sum(mass, lat_f, lon_f, keep)
-            else:
-                values = fields[field][..., k, :, :]
-                total = _field_sum(values, mass, lat_f, lon_f, keep)
-                if kind == "surface" and np.ndim(mass) and np.isnan(total).any():
-                    values = np.where(mass == 0.0, 0.0, values)
-                    total = _field_sum(values, mass, lat_f, lon_f, keep)
+    masses = [_level_mass(kind, k, ps, ps_low, source, bounds, thickness, gravity)
+              for k in range(nlev)]
+    # levels whose mass per area is one number everywhere (above the surface, or set
+    # thicknesses) are summed in one pass over the field: Σ_i v w_lon first, for all
+    # of them at once, then Σ_k m_k and Σ_j w_lat; the others cell by cell
+    uniform = [k for k in range(nlev) if np.ndim(masses[k]) == 0]
+    varying = [k for k in range(nlev) if np.ndim(masses[k])]
+    for field, (index, lat_f, lon_f) in groups.items():
+        if field == "1":
+            if uniform:
+                mass = float(sum(float(masses[k]) for k in uniform))
+                out[..., index] += mass * _mass_sum(np.ones(horizontal), lat_f, lon_f, keep)
+            for k in varying:
+                out[..., index] += _mass_sum(masses[k], lat_f, lon_f, keep)
+            continue
+        values = fields[field]
+        if uniform:
+            out[..., index] += _uniform_sum(values, uniform, masses, lat_f, lon_f, keep)
+        for k in varying:
+            level = values[..., k, :, :]
+            total = _field_sum(level, masses[k], lat_f, lon_f, keep)
+            if kind == "surface" and np.isnan(total).any():
+                level = np.where(masses[k] == 0.0, 0.0, level)
+                total = _field_sum(level, masses[k], lat_f, lon_f, keep)
             out[..., index] += total
     return out
+
+
+def _level_mass(kind, k, ps, ps_low, source, bounds, thickness, gravity):
+    """Mass per unit area of level ``k``: a number where it is the same everywhere."""
+    if kind == "surface":
+        top, bottom = float(np.min(bounds[k])), float(np.max(bounds[k]))
+        if bottom <= ps_low:  # above the surface everywhere
+            return np.float64((bottom - top) / gravity)
+        return np.clip(np.minimum(bottom, ps) - top, 0.0, None) / gravity
+    if kind == "levels":
+        return np.float64(thickness[k])
+    if kind == "density":
+        return np.asarray(source[..., k, :, :], dtype=np.float64) * thickness[k]
+    return ps / gravity
+
+
+def _uniform_sum(values, levels: list[int], masses, lat_f, lon_f, keep: int) -> np.ndarray:
+    """Σ over ``levels`` (each of one mass m_k) of values × m_k × w, for each weight."""
+    m = np.array([float(masses[k]) for k in levels])
+    contiguous = levels == list(range(levels[0], levels[-1] + 1))
+    block = values[..., levels[0]:levels[-1] + 1, :, :] if contiguous else values[..., levels, :, :]
+    sums, along = [], {}
+    for a, b in zip(lat_f, lon_f, strict=True):
+        if keep == 2:
+            column = np.einsum("...kji,k->...ji", block, m, dtype=np.float64)
+            sums.append(column * a[:, None] * b)
+            continue
+        key = id(b)
+        if key not in along:  # Σ_i over the longitudes, once per longitude weight
+            along[key] = np.einsum("...kji,i->...kj", block, b, dtype=np.float64)
+        per_lat = np.einsum("...kj,k->...j", along[key], m)
+        sums.append(per_lat * a if keep == 1 else np.einsum("...j,j->...", per_lat, a))
+    return np.stack(sums, axis=-1)
 
 
 def _separable(product, lat_f, lon_f, keep: int) -> np.ndarray:
