@@ -115,6 +115,43 @@ def _velocity_argument(text: str) -> dict[str, str]:
         raise argparse.ArgumentTypeError(str(exc)) from exc
 
 
+#: What ``--frame`` takes, for its help text.
+FRAME_HELP = ("the rotating frame: earth (WGS 84 ellipsoid; the default), earth_sphere, mars, "
+              "venus, jupiter, saturn, titan, or a rotating table: table:RATE turning "
+              "counter-clockwise seen from above (table:10rpm, table:0.5rad/s... any rate "
+              "unit; or table:VARIABLE, a variable of the file holding the rate over time), "
+              "table-clockwise:RATE turning clockwise")
+
+
+def parse_frame(text: str) -> str:
+    """Check a ``--frame`` value before any file is opened; the name is kept as given.
+
+    A table whose rate is a variable's name is checked against each file later.
+
+    Examples
+    --------
+    >>> parse_frame("mars"), parse_frame("table:10 rpm"), parse_frame("table:rate")
+    ('mars', 'table:10 rpm', 'table:rate')
+    """
+    from frameshift.frames.named import frame_from_name
+
+    spec = text.strip()
+    key, _, rate = spec.partition(":")
+    if key.strip().lower() in ("table", "table-clockwise") and rate.strip().isidentifier():
+        return spec  # a variable of the file: read there
+    try:
+        frame_from_name(spec)
+    except FrameshiftError as exc:  # argparse shows this message (exit status 2)
+        raise argparse.ArgumentTypeError(str(exc).replace("frame=", "--frame ")) from exc
+    return spec
+
+
+def frame_option(parser: argparse.ArgumentParser) -> None:
+    """Add ``--frame`` (a frame name, checked before any file is opened)."""
+    parser.add_argument("--frame", type=parse_frame, default=None, metavar="NAME",
+                        help=FRAME_HELP)
+
+
 def parse_terms(text: str) -> list[str]:
     """Read ``coriolis,curvature`` into a list of term names, refusing unknown ones.
 
@@ -253,6 +290,7 @@ def build_parser() -> argparse.ArgumentParser:
     conv.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
                       help="UT1 - UTC in seconds, within [-1, 1], for the Cartesian basis "
                       "(default 0)")
+    frame_option(conv)
     _velocity_options(conv)
 
     terms = sub.add_parser("terms", help="write apparent-acceleration terms (m s-2)",
@@ -282,6 +320,7 @@ def build_parser() -> argparse.ArgumentParser:
     terms.add_argument("--include-parameters", action="store_true",
                        help="also write coriolis_parameter (2 Omega sin(lat)) and "
                        "reciprocal_coriolis_parameter (2 Omega cos(lat))")
+    frame_option(terms)
     _velocity_options(terms)
 
     from frameshift.instruments import command as earth_command
@@ -312,6 +351,7 @@ def build_parser() -> argparse.ArgumentParser:
                       "cirs, or the axes a Cartesian file records)")
     insp.add_argument("--dut1", type=float, default=None, metavar="SECONDS",
                       help="UT1 - UTC in seconds to check the Cartesian conversions with")
+    frame_option(insp)
     insp.add_argument("--json", action="store_true", help="print the report as JSON")
 
     demo = sub.add_parser("demo", help="run frameshift on the bundled invented demo data",
@@ -404,7 +444,8 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
         basis = args.basis or ("local" if args.to == "inertial" else "auto")
         operation = batch.convert_operation(
             args.to, basis=basis, celestial=args.celestial, velocity=args.velocity,
-            height=parse_height(args.height), dut1=args.dut1, **_coordinates(args),
+            height=parse_height(args.height), dut1=args.dut1, frame=args.frame,
+            **_coordinates(args),
         )
     elif args.command == "momentum":
         from frameshift.diagnostics.command import operation_from_args
@@ -414,7 +455,8 @@ def _run_batch(args: argparse.Namespace, command: str) -> int:
         operation = batch.terms_operation(
             args.terms, traditional=args.traditional, velocity=args.velocity,
             height=parse_height(args.height), include_parameters=args.include_parameters,
-            totals=_TOTALS[args.totals], keep_input=args.keep_input, **_coordinates(args),
+            totals=_TOTALS[args.totals], keep_input=args.keep_input, frame=args.frame,
+            **_coordinates(args),
         )
     summary = batch.run(args.inputs, operation, _options(args, command))
     failed = [o for o in summary.outcomes if o.status in ("failed", "interrupted")]
@@ -478,7 +520,7 @@ def main(argv: Sequence[str] | None = None) -> int:
             return inspect_files(args.inputs, velocity=args.velocity, as_json=args.json,
                             settings={"height": parse_height(args.height),
                                       "celestial": args.celestial, "dut1": args.dut1,
-                                      **_coordinates(args)})
+                                      "frame": args.frame, **_coordinates(args)})
         from frameshift import demo
 
         return demo.run(Path(args.out), overwrite=args.overwrite, quiet=args.quiet).exit_code

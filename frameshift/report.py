@@ -25,6 +25,8 @@ __all__ = ["cli_wording", "describe", "inspect_files"]
 
 # Python spellings in library messages, and the command-line options that say the same
 _WORDING = [
+    (re.compile(r"velocity=\{'x'[^}]*\}(?: \(optionally 'z'\))?"),
+     "--velocity x=NAME,y=NAME[,z=NAME]"),  # a table's axes
     (re.compile(r"velocity=\{[^}]*\}"), "--velocity eastward=NAME,northward=NAME[,upward=NAME]"),
     (re.compile(r"frameshift\.to_rotating(\(\))?"), "'frameshift convert --to rotating'"),
     (re.compile(r"frameshift\.to_inertial(\(\))?"), "'frameshift convert --to inertial'"),
@@ -36,7 +38,7 @@ _WORDING = [
     (re.compile(r"\b(velocity|height|terms|totals)= and (velocity|height|terms|totals)="),
      r"--\1 and --\2"),
     (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1|latitude|longitude|vertical|"
-                r"time)=(?=['\"])"), r"--\1 "),
+                r"time|frame)=(?=['\"])"), r"--\1 "),
     (re.compile(r"\b(velocity|height|terms|totals|traditional|dut1)=(?=\W|$)"), r"--\1"),
     (re.compile(r"\bpass --height"), "give --height"),
     # a library message's own hint for the shell is redundant once it speaks in options
@@ -51,6 +53,8 @@ def cli_wording(text: str) -> str:
     --------
     >>> cli_wording("pick one with velocity={'eastward': ..., 'northward': ...}")
     'pick one with --velocity eastward=NAME,northward=NAME[,upward=NAME]'
+    >>> cli_wording("name them, e.g. velocity={'x': 'u', 'y': 'v'} (optionally 'z')")
+    'name them, e.g. --velocity x=NAME,y=NAME[,z=NAME]'
     >>> cli_wording("Convert it back with frameshift.to_rotating first")
     "Convert it back with 'frameshift convert --to rotating' first"
     """
@@ -67,6 +71,7 @@ def describe(
     height: float | str | None = None,
     celestial: str | None = None,
     dut1: float | None = None,
+    frame: str | None = None,
     **coordinates: str,
 ) -> dict:
     """What frameshift finds in ``ds`` and what each operation would do with it.
@@ -74,9 +79,10 @@ def describe(
     Detection is :func:`frameshift.detect.find_layout`; whether an operation
     would be refused is found by running it lazily (no data are computed),
     with the options that decide it (``velocity``, ``height``, ``celestial``,
-    ``dut1``, and ``latitude``, ``longitude``, ``vertical``, ``time`` naming
-    coordinates; a Cartesian file's own ``inertial_axes`` and UT1 - UTC when
-    not given), and keeping its error.
+    ``dut1``, ``frame`` (a name, as ``--frame`` takes), and ``latitude``,
+    ``longitude``, ``vertical``, ``time`` naming coordinates; a Cartesian
+    file's own ``inertial_axes`` and UT1 - UTC when not given), and keeping
+    its error.
 
     Examples
     --------
@@ -103,7 +109,8 @@ def describe(
         report["sets"] = [_set_report(ds, vset) for vset in layout.sets]
         report.update(report["sets"][0])  # the first set, as single-set reports had it
     report["time"] = _time_report(ds, layout)
-    report["operations"] = _operations(ds, velocity, height, celestial, dut1, coordinates)
+    report["operations"] = _operations(ds, velocity, height, celestial, dut1,
+                                       {**coordinates, "frame": frame})
     problem = _position_problem(ds, layout)
     if problem:  # the operations would fail on these values when they compute
         report["operations"] = {k: f"refused: {problem}" if v == "ok" else v
@@ -206,7 +213,8 @@ def _operations(ds: xr.Dataset, velocity: Mapping[str, str] | None, height, cele
                                              celestial=celestial or "cirs", dut1=dut1 or 0.0,
                                              **coordinates)
             else:  # the file's position and velocity, on the axes it records
-                op = batch.convert_operation(to, basis=basis, celestial=celestial, dut1=dut1)
+                op = batch.convert_operation(to, basis=basis, celestial=celestial, dut1=dut1,
+                                             frame=coordinates.get("frame"))
             ops[label] = _try(op, ds)
     ops["terms"] = _try(batch.terms_operation(velocity=velocity, height=height, **coordinates),
                         ds)

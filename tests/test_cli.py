@@ -272,3 +272,48 @@ def test_inspect_recognises_cartesian_output(runs, capsys):
     text = capsys.readouterr().out
     assert "velocity [m s-1] relative to the inertial frame on CIRS x/y/z axes" in text
     assert "convert --to rotating --basis cartesian: ok" in text
+
+
+# Mars: W = 176.630° + 350.891982443297° d, d in days of 86400 s (IAU WGCCRE 2015 report,
+# Archinal et al. 2018, Celest. Mech. Dyn. Astr. 130:22), so Ω = 350.891982443297° / 86400 s.
+MARS_OMEGA = np.deg2rad(350.891982443297) / 86400.0
+
+
+def test_frame_option_names_the_body(tmp_path):
+    out = tmp_path / "mars"
+    assert _run("terms", DEMO / "global_winds.nc", "--terms", "coriolis", "--frame", "mars",
+                "--out", out, "--quiet") == 0
+    with xr.open_dataset(out / "global_winds.nc") as terms, \
+            xr.open_dataset(DEMO / "global_winds.nc") as winds:
+        north = terms["coriolis_northward"]
+        assert "Mars" in north.attrs["reference_body"]
+        f = 2 * MARS_OMEGA * np.sin(np.deg2rad(winds["lat"]))
+        expected = (-f * winds["ua"]).transpose(*north.dims)
+        # stored as float32 like the input: within float32 rounding of the float64 value
+        np.testing.assert_allclose(north, expected, rtol=2e-7, atol=1e-12)
+    assert _run("convert", DEMO / "global_winds.nc", "--frame", "earth_sphere",
+                "--out", tmp_path / "sphere", "--quiet") == 0
+
+
+@pytest.mark.parametrize("args, words", [
+    (("terms", "--frame", "pluto"), "--frame 'pluto' is not a frame name"),
+    (("convert", "--frame", "table:fast rpm"), "--frame"),
+    (("momentum", "--frame", "mars", "--excitation", "--surface-pressure", "ps"),
+     "--excitation is the excitation of Earth rotation"),
+])
+def test_frame_option_refusals_are_usage_errors(tmp_path, capsys, args, words):
+    command, *rest = args
+    try:  # argparse's own refusals exit; an operation's are returned: status 2 either way
+        status = _run(command, DEMO / "global_winds.nc", "--out", tmp_path / "o", *rest)
+    except SystemExit as info:
+        status = info.code
+    assert status == 2
+    assert words in capsys.readouterr().err
+    assert not (tmp_path / "o").exists()
+
+
+def test_a_table_rate_variable_is_looked_for_in_each_file(tmp_path, capsys):
+    assert _run("terms", DEMO / "global_winds.nc", "--frame", "table:spin_rate",
+                "--out", tmp_path / "o") == 1
+    err = capsys.readouterr().err
+    assert "no variable 'spin_rate'" in err

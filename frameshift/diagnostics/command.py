@@ -39,8 +39,12 @@ def momentum_operation(
     velocity: Mapping[str, str] | None = None,
     excitation: bool = False,
     constants: str = "barnes1983",
+    frame: str | None = None,
 ) -> Operation:
     """An :class:`~frameshift.batch.Operation` computing integrated angular momentum.
+
+    ``frame`` names the body (:func:`frameshift.frames.named.frame_from_name`;
+    default Earth). The excitation of Earth rotation is Earth's alone.
 
     Examples
     --------
@@ -54,10 +58,21 @@ def momentum_operation(
             "--excitation needs the global integrals (--over global)",
             variable="over", expected="global with --excitation", found=over,
         )
+    if excitation and frame is not None and frame.strip().lower() not in _EARTHS:
+        raise ConventionError(
+            f"--excitation is the excitation of Earth rotation; --frame {frame} is another "
+            "body: leave out --excitation (the angular momentum is written for any body)",
+            variable="frame", expected=" or ".join(_EARTHS), found=frame,
+        )
     settings = {"over": over, "surface_pressure": surface_pressure, "density": density,
                 "vertical": vertical, "velocity": dict(velocity) if velocity else None,
                 "excitation": bool(excitation), "constants": constants}
+    if frame is not None:  # recorded only when given: earlier manifests stay current
+        settings["frame"] = frame
     return Operation("momentum", settings)
+
+
+_EARTHS = ("earth", "earth_sphere")
 
 
 def apply_momentum(ds: xr.Dataset, settings: Mapping[str, object]) -> xr.Dataset:
@@ -67,6 +82,10 @@ def apply_momentum(ds: xr.Dataset, settings: Mapping[str, object]) -> xr.Dataset
     s = dict(settings)
     common = {"surface_pressure": s["surface_pressure"], "density": s["density"],
               "vertical": s["vertical"], "velocity": s["velocity"]}
+    if s.get("frame") is not None:
+        from frameshift.frames.named import frame_from_name
+
+        common["frame"] = frame_from_name(s["frame"], ds)
     if s["excitation"]:  # one pass over the data for the integrals and the excitation
         return excitation(ds, constants=s["constants"], include_integrals=True, **common)
     return integrate_angular_momentum(ds, over=s["over"], **common)
@@ -90,7 +109,7 @@ def _number_or_name(text: str | None) -> float | str | None:
 
 def add_parser(sub: argparse._SubParsersAction, common: Callable) -> None:
     """Add the ``momentum`` subcommand; ``common`` adds the options every writing command has."""
-    from frameshift.cli import parse_velocity
+    from frameshift.cli import frame_option, parse_velocity
 
     parser = sub.add_parser(
         "momentum", help="write integrated axial angular momentum (kg m2 s-1)",
@@ -115,6 +134,7 @@ def add_parser(sub: argparse._SubParsersAction, common: Callable) -> None:
                         default="barnes1983",
                         help="transfer factors and moments of inertia of the excitation "
                         "functions (default barnes1983)")
+    frame_option(parser)
     parser.add_argument("--velocity", type=parse_velocity, default=None,
                         metavar="eastward=U,northward=V",
                         help="name the velocity components instead of finding them by "
@@ -126,5 +146,5 @@ def operation_from_args(args: argparse.Namespace) -> Operation:
     return momentum_operation(
         over=args.over, surface_pressure=_number_or_name(args.surface_pressure),
         density=_number_or_name(args.density), vertical=args.vertical, velocity=args.velocity,
-        excitation=args.excitation, constants=args.constants,
+        excitation=args.excitation, constants=args.constants, frame=args.frame,
     )
