@@ -157,9 +157,19 @@ def curvature(lat, h, u, v, w, *, a, f, traditional=False):
 
 
 def coriolis_parameters(lat_deg, omega):
-    """The Coriolis parameter 2Ω sin φ and the reciprocal parameter 2Ω cos φ, s-1."""
+    """The Coriolis parameter 2Ω sin φ and the reciprocal parameter 2Ω cos φ, s-1.
+
+    A zero is +0.0 whatever the sense of rotation (a retrograde body's Ω < 0
+    would otherwise give -0.0 on the equator, printed as "-0").
+
+    Examples
+    --------
+    >>> f, _ = coriolis_parameters(np.array([0.0, 30.0]), -2.99e-7)  # Venus turns backwards
+    >>> np.signbit(f[0]), bool(f[1] < 0)
+    (np.False_, True)
+    """
     lat = np.deg2rad(lat_deg)
-    return 2.0 * omega * np.sin(lat), 2.0 * omega * np.cos(lat)
+    return 2.0 * omega * np.sin(lat) + 0.0, 2.0 * omega * np.cos(lat) + 0.0
 
 
 # --- all terms in one pass, for the xarray layer ------------------------------------
