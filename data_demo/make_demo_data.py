@@ -44,6 +44,9 @@ RANDOM_STATE = 20240917  # fixed: the demo files are reproducible
 OMEGA = 7.292115e-5  # Earth's rotation rate [rad s-1]
 EARTH_RADIUS = 6371008.7714  # mean Earth radius [m]
 G0 = 9.80665  # standard gravity [m s-2]
+# the subtropical jets of global_winds.nc strengthen by this fraction over its four days,
+# so that the demo's angular-momentum series has a change to show (and the day lengthens)
+JET_SURGE = 0.05
 
 PROGRAMME = "Tollaven Shelf Experiment (TSE), a fictional field programme"
 INSTITUTION = "frameshift project (demo data; fictional programme)"
@@ -152,6 +155,7 @@ def make_global_winds(rng):
     # subtropical jets, strongest near 250 hPa; slightly different per hemisphere
     jet_lat = np.where(PHI >= 0, 33.0, 37.0)
     jet_amp = np.where(PHI >= 0, 38.0, 33.0)
+    jet_amp = jet_amp * (1.0 + JET_SURGE * T / T.max())  # a steady strengthening in time
     jet = jet_amp * np.exp(-(((alat - jet_lat) / 9.0) ** 2)) * np.exp(-((lnp / 0.8) ** 2))
     # tropical upper easterlies near 100 hPa
     ttj = -8.0 * np.exp(-((PHI / 15.0) ** 2)) * np.exp(-((np.log(P / 10000.0) / 0.6) ** 2))
@@ -222,7 +226,9 @@ def make_global_winds(rng):
         attrs=global_attrs(
             "frameshift demo: coarse global pressure-level winds (invented)",
             summary=("Invented 6-hourly global winds on five pressure levels: "
-                     "subtropical jets, trades, Hadley cell and eastward-travelling waves."),
+                     "subtropical jets (strengthening by "
+                     f"{JET_SURGE:.0%} over the four days), trades, Hadley cell and "
+                     "eastward-travelling waves."),
         ),
     )
     enc = {v: float_encoding() for v in ("ua", "va", "zg", "ps")}

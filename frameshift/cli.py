@@ -76,7 +76,8 @@ _EPILOG_DEMO = """\
 examples:
   frameshift demo
       convert the bundled invented demo files (local and Cartesian axes), write
-      their apparent-acceleration terms and four figures into
+      their apparent-acceleration terms, an angular-momentum series of the global
+      winds, a rotary spectrum of the mooring and six figures into
       ./frameshift_demo_output, and print a summary table
   frameshift demo --out demo_run --overwrite
       redo every output (by default up-to-date NetCDF outputs are kept)
@@ -357,7 +358,8 @@ def build_parser() -> argparse.ArgumentParser:
     demo = sub.add_parser("demo", help="run frameshift on the bundled invented demo data",
                           description="Run frameshift on the bundled demo files (invented "
                           "data): convert them to the inertial frame, write their "
-                          "apparent-acceleration terms and figures, and print a summary.",
+                          "apparent-acceleration terms, an angular-momentum series and a "
+                          "rotary spectrum, draw figures, and print a summary.",
                           epilog=_EPILOG_DEMO, formatter_class=fmt)
     demo.add_argument("--out", default="frameshift_demo_output", metavar="DIR",
                       help="output directory (default frameshift_demo_output)")

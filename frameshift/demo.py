@@ -4,15 +4,19 @@ Every demo file goes through the batch runner the command line uses
 (:func:`frameshift.batch.process`): Earth-rotating to inertial on local
 east/north/up axes, Earth-rotating to inertial on inertial Cartesian axes,
 and the apparent-acceleration terms, each written as CF NetCDF under
-``<out>/<step>/<file>``. Four figures are then drawn from the files just
+``<out>/<step>/<file>``. Two diagnostics follow, through the same runner
+(:mod:`frameshift.demo_diagnostics`): the angular-momentum and length-of-day
+series of ``global_winds.nc`` and the rotary spectrum of
+``shelf_mooring.nc``. Six figures are then drawn from the files just
 written (read back from disk) into ``<out>/figures/``, and a table gives,
 per data set, the size of each term, the largest inertial speed and the
-files written. The Cartesian conversion of ``packed_knots.nc`` is refused by
-design: its model calendar (``noleap``) has no real time. The two examples
-in ``data_demo/examples/`` take other frames (:data:`EXAMPLE_FRAMES`): a tank
-on a rotating table spun up as the file's ``table_rate`` says (its Cartesian
-step refused by design: a table's fields stay on its x/y axes) and
-cloud-tracked winds on a planet turning as Venus does. The data are
+files written, followed by a few numbers of the diagnostics. The Cartesian
+conversion of ``packed_knots.nc`` is refused by design: its model calendar
+(``noleap``) has no real time. The two examples in ``data_demo/examples/``
+take other frames (:data:`EXAMPLE_FRAMES`): a tank on a rotating table spun
+up as the file's ``table_rate`` says (its Cartesian step refused by design: a
+table's fields stay on its x/y axes) and cloud-tracked winds on a planet
+turning as Venus does. The data are
 invented; see ``data_demo/README.md``.
 """
 
@@ -33,6 +37,15 @@ import numpy as np
 import xarray as xr
 
 from frameshift import batch
+from frameshift.demo_diagnostics import (
+    DIAGNOSTICS,
+    DiagnosticStep,
+    SummaryValue,
+    draw_angular_momentum,
+    draw_rotary_spectrum,
+    print_summary,
+    summary_values,
+)
 from frameshift.errors import MissingInputError
 
 __all__ = [
@@ -130,12 +143,13 @@ class DatasetSummary:
 
 @dataclass
 class DemoReport:
-    """What :func:`run` did: every conversion, every figure, and the table."""
+    """What :func:`run` did: every conversion and diagnostic, every figure, and the tables."""
 
     out_dir: Path
     rows: list[DemoRow] = field(default_factory=list)
     figures: list[DemoFigure] = field(default_factory=list)
     datasets: list[DatasetSummary] = field(default_factory=list)
+    diagnostics: list[SummaryValue] = field(default_factory=list)
     figures_skipped: str = ""
     seconds: float = 0.0
 
@@ -247,8 +261,10 @@ def run(
     """Run the demo into ``out_dir``: convert, write terms, draw figures, print the table.
 
     Outputs go to ``out_dir/<step>/<file>`` for the steps ``inertial_local``,
-    ``inertial_cartesian`` and ``terms`` (up-to-date outputs are kept unless
-    ``overwrite``) and ``out_dir/figures/*.png`` (always redrawn; skipped,
+    ``inertial_cartesian`` and ``terms``, then ``out_dir/momentum/global_winds.nc``
+    and ``out_dir/rotary_spectrum/shelf_mooring.nc`` (see
+    :mod:`frameshift.demo_diagnostics`; up-to-date outputs are kept unless
+    ``overwrite``), and ``out_dir/figures/*.png`` (always redrawn; skipped,
     with a note, when matplotlib is not installed). Each step prints one line
     to ``stream`` (default stdout) as it starts and finishes, then the table;
     ``quiet`` prints nothing but failures (to stderr).
@@ -256,8 +272,8 @@ def run(
     Returns
     -------
     DemoReport
-        Every conversion (``rows``), every figure, and the numbers of the table
-        (``datasets``), read from the files on disk.
+        Every conversion and diagnostic (``rows``), every figure, and the numbers
+        of the tables (``datasets``, ``diagnostics``), read from the files on disk.
 
     Examples
     --------
@@ -276,7 +292,8 @@ def run(
     report = DemoReport(out_dir)
     say.line(f"frameshift demo: {len(files)} invented demo files (fictional Tollaven Shelf "
              f"Experiment, see data_demo/README.md) -> {out_dir}")
-    total = len(STEPS) + len(_FIGURE_SPECS)
+    diagnostics = [d for d in DIAGNOSTICS if (data / d.file) in files]
+    total = len(STEPS) + len(diagnostics) + len(_FIGURE_SPECS)
     options = batch.RunOptions(out_dir=out_dir, overwrite=overwrite, quiet=True, progress=False,
                                command=f"frameshift demo --out {out_dir}")
     with batch.compute_context(options) as (client, parallel):
@@ -290,8 +307,20 @@ def run(
                 if row.status == "failed":
                     print(f"frameshift demo: FAILED {row.file} {step}: {row.reason}",
                           file=sys.stderr)
-    report.figures, report.figures_skipped = _figures(data, out_dir, say, len(STEPS), total)
+        for k, step in enumerate(diagnostics, len(STEPS) + 1):
+            say.start(f"[{k}/{total}] {step.what}: {step.file} ...")
+            row = _diagnose(step, data, out_dir, options, client, parallel)
+            report.rows.append(row)
+            say.finish(f" {_counts([row])} ({row.seconds:.1f} s)")
+            if row.status == "failed":
+                print(f"frameshift demo: FAILED {row.file} {step.folder}: {row.reason}",
+                      file=sys.stderr)
+    done = len(STEPS) + len(diagnostics)
+    report.figures, report.figures_skipped = _figures(data, out_dir, say, done, total)
     report.datasets = [_summarise(file.name, report) for file in files]
+    report.diagnostics = summary_values(
+        {r.step: r.output for r in report.rows if r.output is not None
+         and r.status in ("written", "skipped") and r.step in _DIAGNOSTIC_FOLDERS})
     report.seconds = time.perf_counter() - start
     if not quiet:
         _print_table(report, stream or sys.stdout)
@@ -310,6 +339,23 @@ def _convert(file: Path, step: str, out_dir: Path, options: batch.RunOptions,
     from frameshift.report import cli_wording
 
     return DemoRow(file.name, step, status, None, cli_wording(outcome.reason), outcome.seconds)
+
+
+def _diagnose(step: DiagnosticStep, data: Path, out_dir: Path, options: batch.RunOptions,
+              client: object | None, parallel: int) -> DemoRow:
+    job = batch.Job((data / step.file,), out_dir / step.folder / step.file)
+    outcome = batch.process(job, step.operation, options, client=client, parallel=parallel)
+    if outcome.status != "failed":
+        return DemoRow(step.file, step.folder, outcome.status, job.output,
+                       seconds=outcome.seconds)
+    from frameshift.report import cli_wording
+
+    return DemoRow(step.file, step.folder, "failed", None, cli_wording(outcome.reason),
+                   outcome.seconds)
+
+
+#: The output folders of the diagnostics, in the order they run.
+_DIAGNOSTIC_FOLDERS = tuple(d.folder for d in DIAGNOSTICS)
 
 
 def _counts(rows: list[DemoRow]) -> str:
@@ -380,6 +426,12 @@ _FIGURE_SPECS: tuple[tuple[str, str, str, tuple[str, ...], Callable[[Path, Path,
      ("data:global_winds.nc", "inertial_local/global_winds.nc"), _zonal_mean),
     ("balloon_track_terms.png", "balloon_track.nc", "terms along the balloon track",
      ("terms/balloon_track.nc",), _track_terms),
+    ("global_winds_angular_momentum.png", "global_winds.nc",
+     "angular momentum and length-of-day series", ("momentum/global_winds.nc",),
+     draw_angular_momentum),
+    ("shelf_mooring_rotary_spectrum.png", "shelf_mooring.nc",
+     "rotary spectrum at the mooring, f marked", ("rotary_spectrum/shelf_mooring.nc",),
+     draw_rotary_spectrum),
 )
 
 #: The figure files the demo writes under ``<out>/figures/``.
@@ -466,7 +518,8 @@ def _summarise(name: str, report: DemoReport) -> DatasetSummary:
         note = row.reason if row is not None and row.reason else "no Cartesian output"
         if row is not None and row.status == "refused":
             note += " (refused by design)"
-    files = [path for step, _ in STEPS if (path := current.get(step)) is not None]
+    files = [path for step in (*(s for s, _ in STEPS), *_DIAGNOSTIC_FOLDERS)
+             if (path := current.get(step)) is not None]
     files += [f.path for f in report.figures if f.dataset == name and f.status == "written"]
     return DatasetSummary(name, sizes, speed, note, tuple(files))
 
@@ -495,6 +548,7 @@ def _print_table(report: DemoReport, stream: TextIO) -> None:
     for note in notes:
         print(textwrap.fill(note, width=92, initial_indent="  ", subsequent_indent="    "),
               file=stream)
+    print_summary(report.diagnostics, stream)
     _print_files(report, stream)
 
 
@@ -509,7 +563,7 @@ def _print_files(report: DemoReport, stream: TextIO) -> None:
     kept = f", {len(paths) - fresh} kept (up to date)" if fresh < len(paths) else ""
     print(f"\n{nc} NetCDF files (each with a .frameshift.json manifest) and {png} figures "
           f"in {out}\n({fresh} written now{kept}; {report.seconds:.1f} s in all):", file=stream)
-    folders = [step for step, _ in STEPS] + ["figures"]
+    folders = [step for step, _ in STEPS] + list(_DIAGNOSTIC_FOLDERS) + ["figures"]
     width = max(map(len, folders)) + 2
     for folder in folders:
         names = sorted(p.name for p in paths if p.parent == out / folder)

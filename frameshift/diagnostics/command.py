@@ -2,7 +2,10 @@
 
 The command line and :mod:`frameshift.batch` know the diagnostic as an
 :class:`~frameshift.batch.Operation` named ``"momentum"``; this module makes
-that operation, applies it, and adds the subcommand to the parser.
+that operation, applies it, and adds the subcommand to the parser. The rotary
+spectrum is registered as ``"rotary_spectrum"`` too, so that a script (and
+``frameshift demo``) can write it file by file with the runner's safe outputs;
+it has no subcommand of its own.
 """
 
 from __future__ import annotations
@@ -15,7 +18,8 @@ import xarray as xr
 from frameshift.batch import Operation, register_operation
 from frameshift.errors import ConventionError, check_choice
 
-__all__ = ["EPILOG", "add_parser", "apply_momentum", "momentum_operation", "operation_from_args"]
+__all__ = ["EPILOG", "add_parser", "apply_momentum", "momentum_operation", "operation_from_args",
+           "spectrum_operation"]
 
 EPILOG = """\
 examples:
@@ -96,6 +100,53 @@ def _run(ds: xr.Dataset, **settings) -> xr.Dataset:
 
 
 register_operation("momentum", _run)
+
+
+def spectrum_operation(
+    *,
+    segment: int | str | None = None,
+    band: tuple[float, float] = (0.9, 1.1),
+    gaps: str = "refuse",
+    velocity: Mapping[str, str] | None = None,
+) -> Operation:
+    """An :class:`~frameshift.batch.Operation` writing :func:`~frameshift.rotary_spectrum`.
+
+    The settings are those of :func:`frameshift.rotary_spectrum` (``segment``
+    as a number of samples or a duration text such as ``"4D"``), kept in the
+    forms a manifest stores, so an up-to-date output is recognised.
+
+    Examples
+    --------
+    >>> op = spectrum_operation(segment="4D")
+    >>> op.command, op.settings["segment"], op.settings["band"]
+    ('rotary_spectrum', '4D', [0.9, 1.1])
+    """
+    check_choice("gaps", gaps, ("refuse", "split"))
+    if segment is not None and not isinstance(segment, int | str):
+        raise ConventionError(
+            f"segment= must be a number of samples or a duration text such as '4D'; "
+            f"found {segment!r}",
+            variable="segment", expected="int or duration text", found=repr(segment),
+        )
+    try:
+        low, high = (float(b) for b in band)
+    except (TypeError, ValueError) as exc:
+        raise ConventionError(
+            f"band= must be two numbers (multiples of |f|), e.g. (0.9, 1.1); found {band!r}",
+            variable="band", expected="(low, high)", found=repr(band),
+        ) from exc
+    settings = {"segment": segment, "band": [low, high], "gaps": gaps,
+                "velocity": dict(velocity) if velocity else None}
+    return Operation("rotary_spectrum", settings)
+
+
+def _spectrum(ds: xr.Dataset, *, band: list[float], **settings) -> xr.Dataset:
+    from frameshift.diagnostics.rotary import rotary_spectrum
+
+    return rotary_spectrum(ds, band=(band[0], band[1]), **settings)
+
+
+register_operation("rotary_spectrum", _spectrum)
 
 
 def _number_or_name(text: str | None) -> float | str | None:

@@ -99,8 +99,10 @@ def rotary_spectrum(
     Hann-windowed segments whose periodograms are averaged (Welch's method,
     ``scipy.signal.welch``); variance at negative frequencies of w is clockwise
     motion, at positive ones counter-clockwise (Gonella 1972). Both parts are
-    given on a ``frequency`` coordinate (cycles per second, f >= 0), density
-    scaled so that together they integrate to the variance of u plus that of v.
+    given on a ``frequency`` coordinate (cycles per second, f >= 0; the first
+    dimension, left of any vertical or horizontal one as CF recommends),
+    density scaled so that together they integrate to the variance of u plus
+    that of v.
 
     Parameters
     ----------
@@ -148,6 +150,8 @@ def rotary_spectrum(
         output_core_dims=(["frequency"], ["frequency"]), output_sizes={"frequency": freq.size},
         kwargs={"fs": fs, "nperseg": nperseg, "index": rec.index, "split": rec.split},
     )
+    # CF 1.11 section 2.4: dimensions other than T, Z, Y, X go to the left of them
+    cw, ccw = cw.transpose("frequency", ...), ccw.transpose("frequency", ...)
     inertial = rec.inertial_variables()
     fraction = apply_kernel(
         spectra.band_fraction, cw, ccw, inertial["inertial_frequency"].drop_attrs(),

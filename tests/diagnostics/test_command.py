@@ -76,3 +76,38 @@ def test_momentum_outputs_pass_the_cf_checker(tmp_path, options):
                  "--quiet", *options])
     assert code == 0
     assert_cf_clean(tmp_path / DEMO_WINDS.name)
+
+
+DEMO_MOORING = DEMO_WINDS.with_name("shelf_mooring.nc")
+
+
+def test_spectrum_operation_writes_the_function_s_numbers(tmp_path):
+    # the runner writes what frameshift.rotary_spectrum returns (Gonella 1972 parts),
+    # with a manifest that recognises the output as up to date on a second run
+    from frameshift import batch
+    from frameshift.diagnostics.command import spectrum_operation
+
+    options = batch.RunOptions(out_dir=tmp_path, quiet=True, progress=False,
+                               precision="float64")
+    job = batch.Job((DEMO_MOORING,), tmp_path / "spectrum.nc")
+    operation = spectrum_operation(segment="4D", band=(0.8, 1.2))
+    assert batch.process(job, operation, options).status == "written"
+    with xr.open_dataset(DEMO_MOORING) as ds, xr.open_dataset(job.output) as out:
+        direct = frameshift.rotary_spectrum(ds, segment="4D", band=(0.8, 1.2))
+        for name in ("clockwise", "counterclockwise", "inertial_band_fraction"):
+            np.testing.assert_allclose(out[name].values, direct[name].values, rtol=1e-12)
+        assert out.inertial_band_fraction.attrs["band"] == "0.8 1.2"
+        assert "96 samples per segment" in out.clockwise.attrs["spectral_estimate"]  # 4 days
+    assert batch.process(job, operation, options).status == "skipped"
+    assert_cf_clean(job.output)  # IOOS compliance checker, cf:1.11
+
+
+@pytest.mark.parametrize(("options", "variable"), [
+    ({"band": (0.9,)}, "band"), ({"band": ("low", "high")}, "band"),
+    ({"segment": 4.5}, "segment"), ({"gaps": "fill"}, "gaps")])
+def test_spectrum_operation_refuses_bad_settings(options, variable):
+    from frameshift.diagnostics.command import spectrum_operation
+
+    with pytest.raises(frameshift.ConventionError) as info:
+        spectrum_operation(**options)
+    assert info.value.variable == variable

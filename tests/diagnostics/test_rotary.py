@@ -65,6 +65,8 @@ def test_clockwise_circle_in_the_north(layout):
     for name in ("clockwise", "counterclockwise", "inertial_band_fraction", "inertial_period"):
         assert_udunits(out[name].attrs["units"])
     assert out.frequency.attrs["units"] == "s-1"
+    # CF 1.11 section 2.4: a dimension other than T, Z, Y, X lies to their left
+    assert out.clockwise.dims == out.counterclockwise.dims == ("frequency", "station")
 
 
 @eager_and_chunked
