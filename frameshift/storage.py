@@ -227,8 +227,10 @@ def plan_output(
                 new.encoding = _computed_encoding(var, origin, precision, target,
                                                   converted=old is not None)
                 if "dtype" in new.encoding and not is_coord:
+                    why = ("sums" if _is_float64(var.encoding.get("dtype"))
+                           and precision != "float64" else precision)
                     new.attrs = {**new.attrs, "storage_precision": _precision_note(
-                        new.encoding["dtype"], precision)}
+                        new.encoding["dtype"], why)}
             if is_coord:
                 new.encoding["_FillValue"] = None
         if how[name] != "copied" and not is_coord:
@@ -294,8 +296,9 @@ def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: s
                        target: str, *, converted: bool = False) -> dict:
     if var.dtype.kind != "f":
         return {}
-    if precision == "float64" or not origin:
-        dtype = np.dtype(np.float64)
+    asked = var.encoding.get("dtype")
+    if precision == "float64" or not origin or _is_float64(asked):
+        dtype = np.dtype(np.float64)  # asked for, or (sums over many points) set by the operation
     else:
         dtype = max((stored_precision(v) for v in origin), key=lambda d: d.itemsize)
     if var.dtype.kind == "f" and var.dtype.itemsize < dtype.itemsize:
@@ -323,8 +326,16 @@ def _was_compressed(encoding: Mapping) -> bool:
                 or encoding.get("compressors") or encoding.get("compressor"))
 
 
+def _is_float64(dtype: object) -> bool:
+    try:
+        return dtype is not None and np.dtype(dtype) == np.float64
+    except TypeError:
+        return False
+
+
 def _precision_note(dtype: np.dtype, precision: str) -> str:
-    why = "as asked" if precision == "float64" else "the input's precision"
+    why = {"float64": "as asked", "sums": "a sum over many points"}.get(
+        precision, "the input's precision")
     return f"{np.dtype(dtype).name} ({why}); computed in float64"
 
 

@@ -217,7 +217,8 @@ def integrate_angular_momentum(
     base = {k: v for k, v in base.items() if v}
     out = xr.Dataset(_momentum_variables(relative, frame_part, mass, base))
     out = out.assign_coords(_coords_on(ds, out.dims))
-    return common.finish(out, ds, f"angular momentum integrated over: {over} ({frame.name})")
+    return common.finish(out, ds, f"angular momentum integrated over: {over} ({frame.name})",
+                         sums=True)
 
 
 def excitation(
@@ -315,7 +316,8 @@ def excitation(
             units=_MOMENTUM_UNITS, **base)
     result = xr.Dataset(out)
     result = result.assign_coords(_coords_on(ds, result.dims))
-    return common.finish(result, ds, f"excitation functions ({label}; {frame.name})")
+    return common.finish(result, ds, f"excitation functions ({label}; {frame.name})",
+                         sums=True)
 
 
 # --- the grid and its masses ------------------------------------------------------------

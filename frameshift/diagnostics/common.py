@@ -314,9 +314,19 @@ def seconds_along(
     return str(ds.variables[time].dims[0]), seconds
 
 
-def finish(out: xr.Dataset, ds: xr.Dataset, operation: str) -> xr.Dataset:
-    """The output Dataset with the input's global attributes, a history line and Conventions."""
+def finish(out: xr.Dataset, ds: xr.Dataset, operation: str, *,
+           sums: bool = False) -> xr.Dataset:
+    """The output Dataset with the input's global attributes, a history line and Conventions.
+
+    ``sums=True`` marks its float variables as sums over many points (integrals):
+    they are stored in float64 whatever the input's precision (a float32 total
+    would keep 7 digits of a quantity whose changes are often smaller than that).
+    """
     out.attrs = dict(ds.attrs)
+    if sums:
+        for var in out.data_vars.values():
+            if var.dtype.kind == "f":
+                var.encoding["dtype"] = np.dtype(np.float64)
     return stamp(out, operation)
 
 

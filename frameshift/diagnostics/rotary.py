@@ -182,7 +182,9 @@ def rotary_spectrum(
     keep = set(out.dims) - {"frequency"}
     out = out.assign_coords({n: c.variable for n, c in ds.coords.items()
                              if set(c.dims) <= keep and n != rec.time_name})
-    return common.finish(out, ds, f"rotary spectrum ({rec.frame.name})")
+    out = common.finish(out, ds, f"rotary spectrum ({rec.frame.name})")
+    out.attrs.pop("featureType", None)  # spectra over frequency: no longer a CF §9 sampling
+    return out
 
 
 def inertial_demodulation(

@@ -53,6 +53,11 @@ def test_momentum_command_writes_the_series(tmp_path, capsys):
         assert "ua" not in out and "u" not in out  # the winds are not copied along
         assert "frameshift momentum" in out.attrs["history"]
         assert out.length_of_day_change.attrs["units"] == "ms"
+        # sums over the grid are stored in float64 even from float32 winds: a float32
+        # total keeps ~7 digits, less than the changes of the frame part it carries
+        for name in out.data_vars:
+            assert out[name].encoding["dtype"] == np.float64, name
+            assert "sum over many points" in out[name].attrs["storage_precision"], name
 
 
 def test_momentum_command_refusals(tmp_path, capsys):
@@ -100,6 +105,9 @@ def test_spectrum_operation_writes_the_function_s_numbers(tmp_path):
         assert "96 samples per segment" in out.clockwise.attrs["spectral_estimate"]  # 4 days
     assert batch.process(job, operation, options).status == "skipped"
     assert_cf_clean(job.output)  # IOOS compliance checker, cf:1.11
+    with xr.open_dataset(DEMO_MOORING) as ds, xr.open_dataset(job.output) as out:
+        assert "featureType" in ds.attrs  # a time series profile ...
+        assert "featureType" not in out.attrs  # ... whose spectra are not (CF 1.11 §9)
 
 
 @pytest.mark.parametrize(("options", "variable"), [
