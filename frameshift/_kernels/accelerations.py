@@ -330,17 +330,22 @@ def accelerations(
                     vw = np.multiply(v, w, out=temp())
                     north = _subtract(north, vw, _fold(inv_m, sv * sw), temp)
             emit((east, north, up), term)
-    scratch.clear()
-
     for total in totals:
         if total not in TOTALS:
             raise ValueError(f"unknown total {total!r}; expected one of {TOTALS}")
-    sums = []
+    # the work array, no longer needed, becomes the first total: one full-size
+    # array fewer at the peak (fresh memory is what a first call pays most for)
+    spare = scratch.pop() if scratch else None
+    wanted = []
     if "full" in totals:
-        sums += [_sum(parts[c], shape) for c in COMPONENTS]
+        wanted += [parts[c] for c in COMPONENTS]
     if "without_centrifugal" in totals:  # the same additions, the centrifugal part left out
-        sums += [_sum([x for x in parts[c] if x is not centrifugal_parts.get(c)], shape)
-                 for c in COMPONENTS]
+        wanted += [[x for x in parts[c] if x is not centrifugal_parts.get(c)]
+                   for c in COMPONENTS]
+    sums = []
+    for values in wanted:
+        out, spare = spare, None
+        sums.append(_sum(values, shape, out=out))
     full = [_fresh(r, shape) for r in results]
     return (*full, *sums)
 
@@ -396,13 +401,14 @@ def _fresh(value, shape) -> np.ndarray:
     return np.broadcast_to(np.asarray(value, dtype=np.float64), shape)
 
 
-def _sum(values, shape) -> np.ndarray:
-    """Sum of broadcastable arrays into one new array of ``shape``."""
+def _sum(values, shape, out: np.ndarray | None = None) -> np.ndarray:
+    """Sum of broadcastable arrays into ``out`` (a new array of ``shape`` if None)."""
     if not values:
         return np.zeros(shape)
     # start from the largest so the first addition already has the full shape
     values = sorted(values, key=np.size, reverse=True)
-    out = np.empty(shape)
+    if out is None:
+        out = np.empty(shape)
     if len(values) == 1:
         out[...] = values[0]
         return out

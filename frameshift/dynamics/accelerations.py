@@ -297,7 +297,9 @@ def _one_set(ds, frame, vset: VelocitySet, chosen, traditional, tag, sums):
     u, v = plain(east), plain(ds[vset.northward])
     if vset.position.kind == "geodetic" and {"coriolis", "curvature"} & set(chosen):
         # east and north are undefined at the poles: what depends on u and v is NaN there
-        u, v = mask_poles(u, lat, repr(vset.eastward)), v.where(np.abs(lat) != 90.0)
+        masked = mask_poles(u, lat, repr(vset.eastward))
+        if masked is not u:  # some point at a pole (or a lazy latitude): v too, else no copy
+            u, v = masked, v.where(np.abs(lat) != 90.0)
     inputs = [u, v, lat, h, omega]
     inputs += list(rates)
     scales = [vset.component("eastward").to_si, vset.component("northward").to_si, 1.0]

@@ -212,8 +212,9 @@ def _one_set(ds, frame: Frame, vset: VelocitySet, m, o):
             scales.append(comp.to_si)
     lat, lon = position_values(ds, vset.position)
     # east and north are undefined at the poles: the velocity is NaN there
-    comps[0] = mask_poles(comps[0], lat, repr(vset.eastward))
-    comps[1] = comps[1].where(np.abs(lat) != 90.0)
+    masked = mask_poles(comps[0], lat, repr(vset.eastward))
+    if masked is not comps[0]:  # some point at a pole (or a lazy latitude): north too
+        comps[0], comps[1] = masked, comps[1].where(np.abs(lat) != 90.0)
     return apply_kernel(
         vk.geodetic_to_inertial,
         lat,

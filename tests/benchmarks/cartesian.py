@@ -56,7 +56,9 @@ def _case(ds: xr.Dataset, layout: str, repeats: int, astropy_repeats: int) -> li
 
     def fs_call(d):
         out = frameshift.to_inertial(ds, basis="cartesian", celestial="gcrs", dut1=d)
-        return np.asarray(out["position"].values), np.asarray(out["velocity"].values)
+        # component last, as astropy's moved axes below (files keep it first: CF 2.4)
+        return tuple(np.asarray(out[k].transpose(..., "component").values)
+                     for k in ("position", "velocity"))
 
     # warm astropy's IERS tables and erfa on a few points, not on the timed ones
     loc0 = EarthLocation.from_geodetic(0.0 * u.deg, 0.0 * u.deg, 0.0 * u.m)
