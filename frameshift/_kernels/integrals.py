@@ -22,6 +22,8 @@ or from density times thickness (dm = ρ dz per unit area).
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from frameshift._kernels import geodesy
@@ -281,7 +283,11 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     if kind in ("surface", "column"):
         ps = np.asarray(source, dtype=np.float64)
         ps_low = float(np.nanmin(ps)) if ps.size else 0.0
-    masses = [_level_mass(kind, k, ps, ps_low, source, bounds, thickness, gravity)
+    edges = None
+    if kind == "surface":
+        b = np.asarray(bounds, dtype=np.float64)
+        edges = np.stack([b.min(axis=1), b.max(axis=1)], axis=1).tolist()  # (top, bottom)
+    masses = [_level_mass(kind, k, ps, ps_low, source, edges, thickness, gravity)
               for k in range(nlev)]
     # levels whose mass per area is one number everywhere (above the surface, or set
     # thicknesses) are summed in one pass over the field: Σ_i v w_lon first, for all
@@ -292,7 +298,7 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
         if field == "1":
             if uniform:
                 mass = float(sum(float(masses[k]) for k in uniform))
-                out[..., index] += mass * _mass_sum(np.ones(horizontal), lat_f, lon_f, keep)
+                out[..., index] += mass * _unit_sum(lat_f, lon_f, keep)
             for k in varying:
                 out[..., index] += _mass_sum(masses[k], lat_f, lon_f, keep)
             continue
@@ -309,13 +315,17 @@ def shell_sums(u, v, source, *, kind: str, weights, keep: int = 0, bounds=None,
     return out
 
 
-def _level_mass(kind, k, ps, ps_low, source, bounds, thickness, gravity):
+def _level_mass(kind, k, ps, ps_low, source, edges, thickness, gravity):
     """Mass per unit area of level ``k``: a number where it is the same everywhere."""
     if kind == "surface":
-        top, bottom = float(np.min(bounds[k])), float(np.max(bounds[k]))
+        top, bottom = edges[k]
         if bottom <= ps_low:  # above the surface everywhere
             return np.float64((bottom - top) / gravity)
-        return np.clip(np.minimum(bottom, ps) - top, 0.0, None) / gravity
+        mass = np.minimum(ps, bottom)
+        mass -= top
+        np.maximum(mass, 0.0, out=mass)
+        mass /= gravity
+        return mass
     if kind == "levels":
         return np.float64(thickness[k])
     if kind == "density":
@@ -328,16 +338,20 @@ def _uniform_sum(values, levels: list[int], masses, lat_f, lon_f, keep: int) -> 
     m = np.array([float(masses[k]) for k in levels])
     contiguous = levels == list(range(levels[0], levels[-1] + 1))
     block = values[..., levels[0]:levels[-1] + 1, :, :] if contiguous else values[..., levels, :, :]
-    sums, along = [], {}
+    if keep == 2:
+        column = np.einsum("...kji,k->...ji", block, m, dtype=np.float64)
+        return np.stack([column * a[:, None] * b for a, b in zip(lat_f, lon_f, strict=True)],
+                        axis=-1)
+    # Σ_i over the longitudes for every distinct longitude weight in one pass over the
+    # data (float64 accumulation, a fixed order: no BLAS), then Σ_k m_k and Σ_j w_lat
+    distinct: dict[bytes, int] = {}
+    for b in lon_f:
+        distinct.setdefault(b.tobytes(), len(distinct))
+    table = np.stack([np.frombuffer(key, dtype=np.float64) for key in distinct])
+    along = np.einsum("...kji,wi->...kjw", block, table, dtype=np.float64)
+    sums = []
     for a, b in zip(lat_f, lon_f, strict=True):
-        if keep == 2:
-            column = np.einsum("...kji,k->...ji", block, m, dtype=np.float64)
-            sums.append(column * a[:, None] * b)
-            continue
-        key = id(b)
-        if key not in along:  # Σ_i over the longitudes, once per longitude weight
-            along[key] = np.einsum("...kji,i->...kj", block, b, dtype=np.float64)
-        per_lat = np.einsum("...kj,k->...j", along[key], m)
+        per_lat = np.einsum("...kj,k->...j", along[..., distinct[b.tobytes()]], m)
         sums.append(per_lat * a if keep == 1 else np.einsum("...j,j->...", per_lat, a))
     return np.stack(sums, axis=-1)
 
@@ -360,6 +374,19 @@ def _field_sum(values, mass, lat_f, lon_f, keep: int) -> np.ndarray:
         product = np.multiply(values, mass, dtype=np.float64)
     sums = [_separable(product, a, b, keep) for a, b in zip(lat_f, lon_f, strict=True)]
     return scale * np.stack(sums, axis=-1)
+
+
+def _unit_sum(lat_f, lon_f, keep: int) -> np.ndarray:
+    """Σ (lat_f ⊗ lon_f) over lon then lat (as ``keep`` says): what a mass of 1 gives."""
+    sums = []
+    for a, b in zip(lat_f, lon_f, strict=True):
+        if keep == 2:
+            sums.append(a[:, None] * b)
+        elif keep == 1:
+            sums.append(a * math.fsum(b))
+        else:
+            sums.append(np.float64(math.fsum(a) * math.fsum(b)))
+    return np.stack(sums, axis=-1)
 
 
 def _mass_sum(mass, lat_f, lon_f, keep: int) -> np.ndarray:

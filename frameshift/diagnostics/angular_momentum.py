@@ -380,6 +380,9 @@ class _Grid:
         if any(a.chunks is not None for a in args):
             stacked = _blockwise(_ShellSums(tuple(absent)), args, arg_dims, loop, keep,
                                  len(names), kwargs)
+            if stacked.nbytes <= _GATHER_BYTES:  # sums are small: one block, so what is
+                # made of them (and written) is a few tasks, not a few per input chunk
+                stacked = stacked.chunk(dict.fromkeys(stacked.dims, -1))
         else:
             stacked = apply_kernel(
                 _ShellSums(tuple(absent)), *args, input_core_dims=arg_dims,
@@ -494,6 +497,10 @@ class _Grid:
         else:
             self.kind, self.source, self.thickness = "density", rho, thickness
         return note + "; mass = density x thickness"
+
+
+#: Sums up to this size are gathered into one Dask block before further arithmetic.
+_GATHER_BYTES = 64 * 2**20
 
 
 def _blockwise(func, args, arg_dims, loop, keep, n, kwargs) -> xr.DataArray:
