@@ -92,7 +92,7 @@ def run(quick: bool) -> list[Row]:
     for name, ref in reference.items():
         np.testing.assert_allclose(got[name].values, ref, rtol=1e-10, atol=1e-15, err_msg=name)
     del got, reference
-    first = _first_calls(17 * 10**5 if quick else 17 * 10**6, repeats)
+    first = _first_calls(17 * 10**5 if quick else 17 * 10**6, 3 if quick else 7)
     t_fs, _ = median_time(fs_call, repeats)
     t_hand, _ = median_time(lambda: hand_written(ds), repeats)
     t_fresh, _ = median_time(lambda: hand_written(ds, fresh=True), repeats)
