@@ -85,9 +85,13 @@ def copy(src: str, dst: str, encoding_from: str | None = None, durable: bool = F
             os.fsync(fh.fileno())
 
 
-def zarr_copy(src: str, dst: str) -> None:
+def zarr_copy(src: str, dst: str, durable: bool = False) -> None:
     """Plain xarray: open lazily in the file's own chunks, write a consolidated Zarr store
-    (Zarr format 2, as frameshift writes) with xarray's default encoding for Zarr."""
+    (Zarr format 2, as frameshift writes) with xarray's default encoding for Zarr.
+
+    ``durable``: then ``fsync`` every file and folder of the store, as frameshift
+    does before renaming a store into place.
+    """
     import xarray as xr
 
     ds = xr.open_dataset(src, chunks={})
@@ -95,6 +99,16 @@ def zarr_copy(src: str, dst: str) -> None:
         var.encoding = {k: v for k, v in var.encoding.items()
                         if k in ("dtype", "_FillValue", "units", "calendar")}
     ds.to_zarr(dst, mode="w", consolidated=True, zarr_format=2)
+    if durable:
+        for root, _, names in os.walk(dst):
+            for name in names:
+                with open(os.path.join(root, name), "rb") as fh:
+                    os.fsync(fh.fileno())
+            fd = os.open(root, os.O_RDONLY)
+            try:
+                os.fsync(fd)
+            finally:
+                os.close(fd)
 
 
 def measure(cmd: list[str]) -> dict:
@@ -119,7 +133,7 @@ def main(argv: list[str]) -> int:
         rest = [a for a in argv[1:] if a != "--fsync"]
         copy(rest[0], rest[1], rest[2] if len(rest) > 2 else None, durable)
     elif what == "zarr-copy":
-        zarr_copy(argv[1], argv[2])
+        zarr_copy(argv[1], argv[2], durable="--fsync" in argv)
     elif what == "measure":
         print(json.dumps(measure(argv[argv.index("--") + 1 :])))
     else:

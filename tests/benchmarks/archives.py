@@ -11,7 +11,9 @@ precision policy, its HDF5 chunks and level-1 compression), so that (b)
 writes the same bytes frameshift writes, then synced to disk (``fsync``) as
 the command line does before renaming its output into place; and for Zarr
 output, (c) xarray writing a consolidated Zarr store (format 2) of the file
-beside ``frameshift convert --format zarr``. Every command starts after
+beside ``frameshift convert --format zarr``, and (d) the same store then synced
+(every file and folder), as frameshift syncs a store before renaming it into
+place. Every command starts after
 ``os.sync()``, so none waits for the write-back of the one before.
 """
 
@@ -104,11 +106,14 @@ def _run(tmp: Path, ntime: int, repeats: int, quick: bool) -> list[Row]:
                                              "--overwrite"],
         "xarray Zarr copy": [py, "-m", "tests.benchmarks.archive_jobs", "zarr-copy", str(src),
                              str(tmp / "copy.zarr")],
+        "xarray Zarr copy + fsync": [py, "-m", "tests.benchmarks.archive_jobs", "zarr-copy",
+                                     str(src), str(tmp / "copy.zarr"), "--fsync"],
     }  # fmt: skip
     zarr_ok = _zarr_available()
     if not zarr_ok:
         commands.pop("frameshift convert --format zarr")
         commands.pop("xarray Zarr copy")
+        commands.pop("xarray Zarr copy + fsync")
     _measure(commands["frameshift convert"])  # warm the page cache and the imports
     shutil.copy(converted, reference)
     results: dict[str, list[dict]] = {k: [] for k in commands}
@@ -145,7 +150,8 @@ def _run(tmp: Path, ntime: int, repeats: int, quick: bool) -> list[Row]:
     pairs = [(fs, "xarray copy, input encoding"),
              (fs, "xarray copy, frameshift's encoding + fsync")]
     if zarr_ok:
-        pairs.append(("frameshift convert --format zarr", "xarray Zarr copy"))
+        pairs += [("frameshift convert --format zarr", "xarray Zarr copy"),
+                  ("frameshift convert --format zarr", "xarray Zarr copy + fsync")]
     for fs, base in pairs:
         ratio = wall[fs] / wall[base]
         target = TARGET_ZARR if "Zarr" in base else TARGET_TIME
