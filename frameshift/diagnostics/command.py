@@ -128,13 +128,9 @@ def spectrum_operation(
             f"found {segment!r}",
             variable="segment", expected="int or duration text", found=repr(segment),
         )
-    try:
-        low, high = (float(b) for b in band)
-    except (TypeError, ValueError) as exc:
-        raise ConventionError(
-            f"band= must be two numbers (multiples of |f|), e.g. (0.9, 1.1); found {band!r}",
-            variable="band", expected="(low, high)", found=repr(band),
-        ) from exc
+    from frameshift.diagnostics.rotary import check_band
+
+    low, high = check_band(band)
     settings = {"segment": segment, "band": [low, high], "gaps": gaps,
                 "velocity": dict(velocity) if velocity else None}
     return Operation("rotary_spectrum", settings)

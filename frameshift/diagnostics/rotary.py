@@ -13,7 +13,7 @@ from frameshift.diagnostics import common
 from frameshift.errors import ConventionError, UnsupportedInputError, check_choice
 from frameshift.frames import EARTH, Ellipsoid, check_frame
 
-__all__ = ["inertial_demodulation", "rotary_spectrum"]
+__all__ = ["check_band", "inertial_demodulation", "rotary_spectrum"]
 
 _GAPS = ("refuse", "split")
 
@@ -141,7 +141,7 @@ def rotary_spectrum(
     True
     """
     rec = _Record(ds, velocity, frame, gaps)
-    lo, hi = _band(band)
+    lo, hi = check_band(band)
     nperseg = _segment(segment, rec)
     fs = 1.0 / rec.dt
     freq = spectra.rotary_frequencies(nperseg, fs)
@@ -262,7 +262,14 @@ def inertial_demodulation(
     return common.finish(out, ds, f"inertial demodulation ({rec.frame.name})")
 
 
-def _band(band) -> tuple[float, float]:
+def check_band(band) -> tuple[float, float]:
+    """A band (low, high) in multiples of |f|, checked: two numbers, 0 <= low < high.
+
+    Examples
+    --------
+    >>> check_band((0.9, 1.1))
+    (0.9, 1.1)
+    """
     try:
         lo, hi = (float(b) for b in band)
     except (TypeError, ValueError) as exc:
