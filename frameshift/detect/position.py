@@ -16,7 +16,7 @@ positive up for the vertical) as plain DataArrays, lazy when the input is.
 from __future__ import annotations
 
 import warnings
-from collections.abc import Callable, Hashable
+from collections.abc import Callable, Hashable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -476,11 +476,14 @@ def floor_of(frame: object) -> float | None:
     return -float(b) if b else None
 
 
-def mask_poles(values: xr.DataArray, lat: xr.DataArray, what: str) -> xr.DataArray:
+def mask_poles(values: xr.DataArray, lat: xr.DataArray, what: str, *,
+               sizes: Mapping[str, int] | None = None) -> xr.DataArray:
     """``values`` with NaN where |latitude| is 90 degrees, where east and north are undefined.
 
     Warns (:class:`~frameshift.errors.FrameshiftWarning`) with the number of
-    points, counted from a latitude in memory; a Dask-backed latitude is
+    points, counted from a latitude in memory over the dimensions ``sizes``
+    (default: those of ``values``; give the field's when ``values`` is a
+    small term that will be added to it); a Dask-backed latitude is
     masked lazily without a count. Just off the pole nothing changes.
     """
     at_pole = np.abs(lat) == 90.0
@@ -488,7 +491,8 @@ def mask_poles(values: xr.DataArray, lat: xr.DataArray, what: str) -> xr.DataArr
         n_lat = int(np.count_nonzero(np.asarray(at_pole)))
         if not n_lat:
             return values
-        spread = int(np.prod([n for d, n in values.sizes.items() if d not in lat.dims]))
+        sizes = values.sizes if sizes is None else sizes
+        spread = int(np.prod([n for d, n in sizes.items() if d not in lat.dims]))
         warnings.warn(
             f"{n_lat * spread} point(s) of {what} lie at a pole (|latitude| = 90 degrees), where "
             "east and north are undefined: the quantities that depend on them are NaN there",

@@ -99,12 +99,13 @@ def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float):
             expected=f"position on dimensions within {east.dims}",
             found=str(shift.dims),
         )
+    if vset.position.kind == "geodetic":  # east is undefined at the poles: NaN there,
+        # put in the small position-only term, so the field gets it in the one addition
+        shift = mask_poles(shift, lat, repr(vset.eastward), sizes=east.sizes)
     # Variables broadcast by dimension name without index alignment (the
     # position arrays are the Dataset's own coordinates)
-    new = xr.DataArray(xr.Variable(east.dims, east.data) + shift.variable)
-    if vset.position.kind == "geodetic":  # east is undefined at the poles: NaN there
-        new = mask_poles(new, lat, repr(vset.eastward))
-    return new.variable.transpose(*east.dims).data
+    new = xr.Variable(east.dims, east.data) + shift.variable
+    return new.transpose(*east.dims).data
 
 
 def _rate_over_time(ds: xr.Dataset, frame: Frame, vset: VelocitySet) -> xr.DataArray:
