@@ -116,6 +116,7 @@ def _run(tmp: Path, ntime: int, repeats: int, quick: bool) -> list[Row]:
         commands.pop("xarray Zarr copy + fsync")
     _measure(commands["frameshift convert"])  # warm the page cache and the imports
     shutil.copy(converted, reference)
+    shutil.rmtree(out_dir, ignore_errors=True)  # every timed run writes a new output
     results: dict[str, list[dict]] = {k: [] for k in commands}
     for _ in range(repeats):  # interleaved, so drifts in the machine hit all alike
         for name, cmd in commands.items():
