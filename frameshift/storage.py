@@ -224,11 +224,9 @@ def plan_output(
             else:
                 origin = [source.variables[n] for n in
                           ([name] if old is not None else _sources(var, source, consumed))]
-                new.encoding = _computed_encoding(var, origin, precision, target,
-                                                  converted=old is not None)
+                new.encoding, why = _computed_encoding(var, origin, precision, target,
+                                                       converted=old is not None)
                 if "dtype" in new.encoding and not is_coord:
-                    why = ("sums" if _is_float64(var.encoding.get("dtype"))
-                           and precision != "float64" else precision)
                     new.attrs = {**new.attrs, "storage_precision": _precision_note(
                         new.encoding["dtype"], why)}
             if is_coord:
@@ -293,14 +291,17 @@ def _storage(encoding: Mapping, target: str) -> dict:
 
 
 def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: str,
-                       target: str, *, converted: bool = False) -> dict:
+                       target: str, *, converted: bool = False) -> tuple[dict, str]:
+    """The encoding of a computed variable, and why its dtype (for ``storage_precision``)."""
     if var.dtype.kind != "f":
-        return {}
-    asked = var.encoding.get("dtype")
-    if precision == "float64" or not origin or _is_float64(asked):
-        dtype = np.dtype(np.float64)  # asked for, or (sums over many points) set by the operation
+        return {}, precision
+    why = precision
+    if precision == "float64" or not origin:
+        dtype = np.dtype(np.float64)
     else:
         dtype = max((stored_precision(v) for v in origin), key=lambda d: d.itemsize)
+        if dtype != np.float64 and _is_float64(var.encoding.get("dtype")):
+            dtype, why = np.dtype(np.float64), "sums"  # set by the operation: sums over a grid
     if var.dtype.kind == "f" and var.dtype.itemsize < dtype.itemsize:
         dtype = var.dtype  # never widen what was computed narrower
     enc: dict = {"dtype": dtype}
@@ -317,7 +318,7 @@ def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: s
                 enc.update(zlib=True, complevel=COMPLEVEL, shuffle=True)
         else:
             enc["chunks"] = tuple(block)
-    return enc
+    return enc, why
 
 
 def _was_compressed(encoding: Mapping) -> bool:
