@@ -42,6 +42,7 @@ __all__ = [
     "COMPLEVEL",
     "DISK_CHUNK_BYTES",
     "PRECISIONS",
+    "SUMS_KEY",
     "decode_labels",
     "disk_chunks",
     "encode_labels",
@@ -54,6 +55,10 @@ __all__ = [
 
 #: Storage precisions of computed variables: the input's, or always float64.
 PRECISIONS = ("input", "float64")
+#: Encoding key an operation sets on a variable that is a sum over many points: it is
+#: stored in float64 whatever the input's precision. Storage rebuilds every computed
+#: variable's encoding, so the key itself is never written.
+SUMS_KEY = "frameshift_sum"
 #: zlib level of computed variables: level 1 writes several times faster than
 #: higher levels for a few per cent more bytes on float data with shuffle.
 COMPLEVEL = 1
@@ -300,8 +305,8 @@ def _computed_encoding(var: xr.Variable, origin: list[xr.Variable], precision: s
         dtype = np.dtype(np.float64)
     else:
         dtype = max((stored_precision(v) for v in origin), key=lambda d: d.itemsize)
-        if dtype != np.float64 and _is_float64(var.encoding.get("dtype")):
-            dtype, why = np.dtype(np.float64), "sums"  # set by the operation: sums over a grid
+        if var.encoding.get(SUMS_KEY):  # marked by the operation: sums over a grid
+            dtype, why = np.dtype(np.float64), "sums"
     if var.dtype.kind == "f" and var.dtype.itemsize < dtype.itemsize:
         dtype = var.dtype  # never widen what was computed narrower
     enc: dict = {"dtype": dtype}
@@ -325,13 +330,6 @@ def _was_compressed(encoding: Mapping) -> bool:
     """Whether a variable was stored compressed (NetCDF zlib or other filters, Zarr codecs)."""
     return bool(encoding.get("zlib") or encoding.get("compression")
                 or encoding.get("compressors") or encoding.get("compressor"))
-
-
-def _is_float64(dtype: object) -> bool:
-    try:
-        return dtype is not None and np.dtype(dtype) == np.float64
-    except TypeError:
-        return False
 
 
 def _precision_note(dtype: np.dtype, precision: str) -> str:

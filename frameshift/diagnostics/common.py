@@ -19,6 +19,7 @@ from frameshift.cf import stamp
 from frameshift.detect import find_layout, position_values, require_dataset
 from frameshift.errors import InputTypeError, MissingInputError, UnitsError, UnsupportedInputError
 from frameshift.frames import Ellipsoid, check_frame
+from frameshift.storage import SUMS_KEY
 from frameshift.units import parse_units, scale_to, ureg
 
 __all__ = [
@@ -326,7 +327,7 @@ def finish(out: xr.Dataset, ds: xr.Dataset, operation: str, *,
     if sums:
         for var in out.data_vars.values():
             if var.dtype.kind == "f":
-                var.encoding["dtype"] = np.dtype(np.float64)
+                var.encoding[SUMS_KEY] = True
     return stamp(out, operation)
 
 
