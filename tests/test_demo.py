@@ -390,7 +390,7 @@ def test_angular_momentum_series_against_outside_facts(run):
     np.testing.assert_allclose(out["mass"], dm.sum(axis=(1, 2)), rtol=1e-5)
     # the frame part is Ω ∫ r² cos²φ dm (AMS Glossary, "absolute angular momentum"), r cos φ
     # the distance from the axis (WGS 84, pyproj); midpoint sums on 5° cells are good to
-    # about Δφ²/24 (3e-4), the stored float32 to 1e-7
+    # about Δφ²/24 (3e-4), stored in float64 (a sum over the grid)
     frame = OMEGA * (dm * axis[None, :, None] ** 2).sum(axis=(1, 2))
     np.testing.assert_allclose(out["angular_momentum_frame"], frame, rtol=1e-3)
     # a thin spherical shell of mass M turning at Ω: (2/3) M a² Ω (moment of inertia of a
@@ -409,7 +409,7 @@ def test_angular_momentum_series_against_outside_facts(run):
     lod = out["length_of_day_change"]
     expected = 86400e3 / c_m * (0.70 * (frame_part - frame_part[0]) / OMEGA
                                 + 1.00 * (rel - rel[0]) / OMEGA)
-    # float32 storage: lod ~124 ms to 8e-6 ms, the frame part to 6e-8 relative
+    # stored in float64 (sums); the bound, set when they were float32 (8e-6 ms), still holds
     np.testing.assert_allclose(lod - lod[0], expected, rtol=0, atol=5e-5)
     # the wind term alone: about 1.68e-29 s of length of day per kg m2 s-1 the air gains
     # (Rosen & Salstein 1983, J. Geophys. Res. 88, as the project's reference values quote
