@@ -25,12 +25,13 @@ def apply_kernel(
     output_sizes: dict[str, int] | None = None,
     kwargs: dict | None = None,
     dims_order: Sequence[str] | None = None,
+    dtype: np.dtype | type = np.float64,
 ) -> xr.DataArray | tuple[xr.DataArray, ...]:
     """Apply ``kernel`` to DataArrays; return one DataArray per kernel output.
 
     ``kernel`` must return arrays with the full broadcast shape of its inputs
-    (plus the output core dimensions). ``dims_order`` puts the loop dimensions
-    of every output in that order (core dimensions stay last).
+    (plus the output core dimensions), of type ``dtype``. ``dims_order`` puts
+    the loop dimensions of every output in that order (core dimensions stay last).
     """
     if input_core_dims is None:
         input_core_dims = [()] * len(args)
@@ -42,7 +43,7 @@ def apply_kernel(
         output_core_dims=[list(d) for d in output_core_dims],
         kwargs=kwargs or {},
         dask="parallelized",
-        output_dtypes=[np.float64] * n_out,
+        output_dtypes=[np.dtype(dtype)] * n_out,
         dask_gufunc_kwargs={"output_sizes": output_sizes or {}},
         keep_attrs=False,
     )

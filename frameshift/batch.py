@@ -41,6 +41,7 @@ from frameshift.storage import output_format, with_format_suffix
 
 __all__ = [
     "OPERATIONS",
+    "ROUNDING",
     "Job",
     "Operation",
     "Outcome",
@@ -68,10 +69,18 @@ _WORKER_FLOOR = 512 * 2**20
 #: Capabilities add theirs with :func:`register_operation` (the command line, the
 #: runner and the demo then share it, with no chain of ifs).
 OPERATIONS: dict[str, Callable[..., xr.Dataset]] = {}
+#: Commands whose function takes ``precision=`` (:data:`frameshift.storage.PRECISIONS`),
+#: the run's storage precision, and rounds what it computes to it as it computes it.
+ROUNDING: set[str] = set()
 
 
-def register_operation(command: str, function: Callable[..., xr.Dataset]) -> None:
+def register_operation(command: str, function: Callable[..., xr.Dataset], *,
+                       rounds: bool = False) -> None:
     """Make ``function(ds, **settings)`` the operation run for ``command``.
+
+    ``rounds=True``: ``function`` also takes ``precision=``, the storage
+    precision of the run, and may round its results to it as it computes them,
+    so that no float64 copy of a float32 field is made only to be narrowed on writing.
 
     Examples
     --------
@@ -79,6 +88,10 @@ def register_operation(command: str, function: Callable[..., xr.Dataset]) -> Non
     True
     """
     OPERATIONS[command] = function
+    if rounds:
+        ROUNDING.add(command)
+    else:
+        ROUNDING.discard(command)
 
 
 @dataclass(frozen=True)
@@ -92,11 +105,14 @@ class Operation:
     command: str
     settings: Mapping[str, object]
 
-    def apply(self, ds: xr.Dataset) -> xr.Dataset:
+    def apply(self, ds: xr.Dataset, *, precision: str = "float64") -> xr.Dataset:
         """Run the operation on ``ds`` (lazily when ``ds`` is Dask-backed).
 
         The result's CF references are made whole against ``ds``
         (:func:`frameshift.cf_references.reconcile`), whatever the operation.
+        ``precision`` is the storage precision the result will be written in
+        (:data:`frameshift.storage.PRECISIONS`); operations registered with
+        ``rounds=True`` round to it as they compute, the others ignore it.
         """
         try:
             function = OPERATIONS[self.command]
@@ -107,10 +123,13 @@ class Operation:
                 expected=" | ".join(sorted(OPERATIONS)),
                 found=repr(self.command),
             ) from exc
-        return reconcile(function(ds, **self.settings), ds)
+        extra = {"precision": precision} if self.command in ROUNDING else {}
+        return reconcile(function(ds, **self.settings, **extra), ds)
 
 
-def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
+def _convert(ds: xr.Dataset, *, to: str, precision: str = "float64",
+             **settings) -> xr.Dataset:
+    from frameshift.frames import Plane
     from frameshift.transforms import to_inertial, to_rotating
 
     s = _named_frame(ds, dict(settings))
@@ -128,6 +147,8 @@ def _convert(ds: xr.Dataset, *, to: str, **settings) -> xr.Dataset:
     if s.get("basis") == "local":
         s.pop("celestial", None)
         s.pop("dut1", None)
+        if not isinstance(getattr(s.get("frame"), "figure", None), Plane):
+            s["precision"] = precision  # rounded as computed: no float64 copy to narrow
     return (to_inertial if to == "inertial" else to_rotating)(ds, **s)
 
 
@@ -158,7 +179,7 @@ def _terms(ds: xr.Dataset, *, keep_input: bool = False, **settings) -> xr.Datase
     return result.assign_attrs(attrs)
 
 
-register_operation("convert", _convert)
+register_operation("convert", _convert, rounds=True)
 register_operation("terms", _terms)
 
 
@@ -493,7 +514,7 @@ def process(
     try:
         ds, raw = _open(job, options, parallel)
         try:
-            result = operation.apply(ds)
+            result = operation.apply(ds, precision=options.precision)
             sets = count_sets(result, operation.settings.get("to"))
             result = _provenance(result, ds.attrs.get("history"), options.command)
             to_write, _ = io.prepare_output(result, ds, raw, precision=options.precision,

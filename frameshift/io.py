@@ -16,6 +16,7 @@
 from __future__ import annotations
 
 import contextlib
+import functools
 import math
 import os
 import warnings
@@ -411,6 +412,10 @@ def write_store_atomic(
     The store (consolidated metadata, Zarr format :data:`ZARR_FORMAT`) is
     written into a temporary directory beside ``path`` and published with its
     manifest by :func:`frameshift.safefiles.publish`, as NetCDF files are.
+    Each file of the store is synced to disk as soon as it is written, while
+    the rest is still computed (:class:`frameshift.safefiles.SyncAhead`), so
+    the disk works during the computation instead of after it; files written
+    by other processes (a distributed cluster's workers) are synced at the end.
 
     Examples
     --------
@@ -420,16 +425,43 @@ def write_store_atomic(
     """
     _require_zarr()
 
-    def write(tmp: Path) -> None:
+    def write(tmp: Path) -> frozenset[Path]:
         tmp.unlink(missing_ok=True)  # the temporary name was held by an empty file
-        delayed = ds.to_zarr(tmp, mode="w", compute=False, consolidated=True,
-                             zarr_format=ZARR_FORMAT)
-        if compute is None:
-            delayed.compute()
-        else:
-            compute(delayed)
+        with safefiles.SyncAhead() as ahead:
+            store = _syncing_store_class()(tmp, ahead=ahead)
+            delayed = ds.to_zarr(store, mode="w", compute=False, consolidated=True,
+                                 zarr_format=ZARR_FORMAT)
+            if compute is None:
+                delayed.compute()
+            else:
+                compute(delayed)
+            return ahead.finish()
 
     return safefiles.publish(write, path, manifest=manifest)
+
+
+@functools.cache
+def _syncing_store_class() -> type:
+    """zarr's ``LocalStore`` handing each file it has written to a :class:`SyncAhead`."""
+    from zarr.storage import LocalStore
+
+    class SyncingStore(LocalStore):
+        def __init__(self, root: str | os.PathLike, *, read_only: bool = False,
+                     ahead: safefiles.SyncAhead | None = None) -> None:
+            super().__init__(Path(root), read_only=read_only)
+            self._ahead = ahead
+
+        async def set(self, key: str, value: object) -> None:
+            await super().set(key, value)  # returns once the file is whole under its name
+            if self._ahead is not None:
+                self._ahead.submit(self.root / key)
+
+        def __reduce__(self) -> tuple:
+            # sent to another process (a cluster's worker): a plain store there,
+            # whose files publish() syncs at the end
+            return (LocalStore, (self.root,))
+
+    return SyncingStore
 
 
 def _close_open_file(path: Path) -> None:

@@ -33,6 +33,7 @@ import shutil
 import socket
 import sys
 import tempfile
+import threading
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
 
@@ -40,6 +41,7 @@ from frameshift.errors import WriteError
 
 __all__ = [
     "MANIFEST_SUFFIX",
+    "SyncAhead",
     "check_writable",
     "file_checksum",
     "is_current",
@@ -361,7 +363,7 @@ def is_current(
 
 # --- publishing -----------------------------------------------------------------------
 def publish(
-    write: Callable[[Path], None],
+    write: Callable[[Path], Iterable[Path] | None],
     path: str | os.PathLike,
     *,
     manifest: Mapping | None = None,
@@ -374,6 +376,8 @@ def publish(
     another, then both are renamed into place; if the second rename fails
     the first is undone. On any failure both temporary files are removed,
     and a file-system cause is raised as :class:`~frameshift.errors.WriteError`.
+    ``write`` may return the files of a store it has already synced itself
+    (see :class:`SyncAhead`); those are not synced a second time.
     """
     path = Path(path)
     what = repr(os.fspath(path))
@@ -384,8 +388,8 @@ def publish(
         raise (_explain(exc, _existing(path.parent), what) or exc) from exc
     side = aside = None
     try:
-        write(tmp)  # a file, or (a Zarr store) a directory in place of the empty file
-        _flush(tmp)
+        synced = write(tmp)  # a file, or (a Zarr store) a directory in place of the empty file
+        _flush(tmp, skip=frozenset(synced or ()))
         os.chmod(tmp, (0o777 if tmp.is_dir() else 0o666) & ~_umask())
         if manifest is not None:
             record = manifest_record(path, data_file=tmp, **manifest)
@@ -497,19 +501,84 @@ def _existing(folder: Path) -> Path:
 _SYNC_THREADS = 8
 
 
-def _flush(path: Path) -> None:
-    """Sync a file, or every file and folder of a store (a Zarr directory tree)."""
+def _flush(path: Path, skip: frozenset[Path] = frozenset()) -> None:
+    """Sync a file, or every file (but those in ``skip``) and folder of a store."""
     if not path.is_dir():
         _fsync_file(path)
         return
     files, folders = [], []
     for root, _, names in os.walk(path):
         folders.append(Path(root))
-        files += [Path(root) / name for name in names]
+        files += [f for f in (Path(root) / name for name in names) if f not in skip]
     with concurrent.futures.ThreadPoolExecutor(_SYNC_THREADS) as pool:
         list(pool.map(_fsync_file, files))  # list(): the first error is raised here
     for folder in reversed(folders):  # each folder's entries, the deepest first
         _flush_dir(folder)
+
+
+class SyncAhead:
+    """Sync the files of a store on other threads while the rest is still being written.
+
+    Syncing a store only once it is complete leaves the disk idle while the
+    data are computed, then makes the writer wait for all of it. Each file
+    handed to :meth:`submit` once it is complete (a write finished, a later
+    rewrite submitted again) is synced at once on one of a few threads;
+    :meth:`finish` waits for them and returns the files synced, for
+    :func:`publish` to skip. A file gone before its turn is left to
+    :func:`publish`, which syncs whatever the store holds at the end.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> f = pathlib.Path(tempfile.mkdtemp()) / "chunk"
+    >>> _ = f.write_bytes(b"data")
+    >>> with SyncAhead() as ahead:
+    ...     ahead.submit(f)
+    ...     sorted(ahead.finish()) == [f]
+    True
+    """
+
+    def __init__(self, threads: int = 4) -> None:
+        self._pool = concurrent.futures.ThreadPoolExecutor(
+            threads, thread_name_prefix="frameshift-sync"
+        )
+        self._lock = threading.Lock()
+        self._pending: list[tuple[Path, concurrent.futures.Future]] = []
+
+    def submit(self, path: str | os.PathLike) -> None:
+        """Sync ``path`` (a complete file) on a sync thread."""
+        path = Path(path)
+        future = self._pool.submit(_fsync_if_present, path)
+        with self._lock:
+            self._pending.append((path, future))
+
+    def finish(self) -> frozenset[Path]:
+        """Wait for every sync asked for; the files synced (the first error is raised)."""
+        self._pool.shutdown(wait=True)
+        with self._lock:
+            pending = list(self._pending)
+        last = {}  # a file written again counts as synced only if its last sync was done
+        for path, future in pending:
+            last[path] = future.result()
+        return frozenset(path for path, done in last.items() if done)
+
+    def close(self) -> None:
+        """Stop: syncs not yet begun are dropped, those running are waited for."""
+        self._pool.shutdown(wait=True, cancel_futures=True)
+
+    def __enter__(self) -> SyncAhead:
+        return self
+
+    def __exit__(self, *exc_info: object) -> None:
+        self.close()
+
+
+def _fsync_if_present(path: Path) -> bool:
+    try:
+        _fsync_file(path)
+    except FileNotFoundError:  # removed or renamed since: the final pass sees what is left
+        return False
+    return True
 
 
 def _fsync_file(path: Path) -> None:

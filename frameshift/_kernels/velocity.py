@@ -21,7 +21,7 @@ import numpy as np
 
 from frameshift._kernels import geodesy, rotation
 
-__all__ = ["eastward_frame_speed", "geodetic_to_inertial", "inertial_to_geodetic"]
+__all__ = ["eastward_frame_speed", "geodetic_to_inertial", "inertial_to_geodetic", "shifted"]
 
 #: elements per block of the full-size work (a few hundred kB per temporary)
 BLOCK = 1 << 15
@@ -35,6 +35,24 @@ def eastward_frame_speed(lat_deg, h, omega, a, f):
     from the axis.
     """
     return omega * geodesy.axis_distance(np.deg2rad(lat_deg), h, a, f)
+
+
+def shifted(u, shift, *, dtype=np.float64):
+    """``u + shift``: added in float64, rounded once to ``dtype``.
+
+    numpy casts in buffers of a few thousand elements, so with a float32
+    ``dtype`` no full-size float64 array is made: the values are those of
+    ``(u + shift).astype(dtype)``, in one pass over the data.
+
+    Examples
+    --------
+    >>> u = np.array([1.0, 2.0], np.float32)
+    >>> shifted(u, np.float64(0.1), dtype=np.float32).dtype
+    dtype('float32')
+    """
+    out = np.empty(np.broadcast_shapes(np.shape(u), np.shape(shift)), dtype)
+    np.add(u, shift, out=out, dtype=np.float64, casting="same_kind")
+    return out
 
 
 def geodetic_to_inertial(lat_deg, lon_deg, h, u, v, w, matrix, omega, *, a, f, scale):

@@ -22,6 +22,7 @@ from frameshift.detect.latitude_kind import (
 from frameshift.errors import ConventionError, check_choice
 from frameshift.frames import EARTH, Ellipsoid, Frame, Plane, check_frame
 from frameshift.frames.celestial import CELESTIAL_AXES, resolve_axes
+from frameshift.storage import PRECISIONS
 from frameshift.transforms.cartesian import from_cartesian, to_cartesian
 from frameshift.transforms.local import convert_local
 from frameshift.transforms.planar import GRIDS, planar_to_inertial, planar_to_rotating
@@ -45,6 +46,7 @@ def to_inertial(
     time: str | None = None,
     grid: str = "same",
     latitude_kind: str = "planetographic",
+    precision: str = "float64",
 ) -> xr.Dataset:
     """Velocities relative to a rotating body, seen from the inertial frame.
 
@@ -98,6 +100,14 @@ def to_inertial(
         the normal to the surface; the default) or planetocentric (from the
         centre). Planetocentric ones are converted to place the points and
         left as given in the result (``latitude_kind`` in its attributes).
+    precision : {"float64", "input"}
+        For ``basis="local"`` on a body: the float type of the new eastward
+        components. The addition is float64 either way; ``"input"`` rounds
+        each result once to the precision its input is stored in (float32 for
+        float32 and for packed 16-bit input, see
+        :func:`frameshift.storage.stored_precision`), in the same pass, so no
+        float64 copy of a float32 field is made. What the command line stores
+        by default (``--precision input``); other bases refuse ``"input"``.
 
     Returns
     -------
@@ -114,14 +124,14 @@ def to_inertial(
     >>> round(float(frameshift.to_inertial(ds)["u"][0]), 4)
     465.1011
     """
-    if _planar(frame, grid, basis):
+    if _planar(frame, grid, basis, precision):
         return planar_to_inertial(ds, frame, velocity=velocity, grid=grid)
     view, names = planetographic_view(
         require_dataset(ds), frame, latitude_kind, velocity=velocity, latitude=latitude,
         longitude=longitude, vertical=vertical, time=time, height=height, target=INERTIAL,
     )
     out = _convert(view, frame, INERTIAL, basis, velocity, height, celestial, dut1,
-                   latitude, longitude, vertical, time)
+                   latitude, longitude, vertical, time, precision)
     return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
@@ -140,6 +150,7 @@ def to_rotating(
     time: str | None = None,
     grid: str = "same",
     latitude_kind: str = "planetographic",
+    precision: str = "float64",
 ) -> xr.Dataset:
     """Inertial velocities back to velocities relative to the rotating body.
 
@@ -165,7 +176,7 @@ def to_rotating(
     >>> round(float(back["u"][0]), 9)
     10.0
     """
-    if _planar(frame, grid, basis):
+    if _planar(frame, grid, basis, precision):
         return planar_to_rotating(ds, frame, velocity=velocity, grid=grid)
     if basis == "cartesian":  # positions are inertial: only the latitudes computed change
         view, names = ds, ()
@@ -176,14 +187,26 @@ def to_rotating(
             longitude=longitude, vertical=vertical, time=time, height=height, target=ROTATING,
         )
     out = _convert(view, frame, ROTATING, basis, velocity, height, celestial, dut1,
-                   latitude, longitude, vertical, time)
+                   latitude, longitude, vertical, time, precision)
     return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
-def _planar(frame, grid, basis) -> bool:
-    """True for a frame with a plane figure (a lab table); ``grid=`` is only for those."""
+def _planar(frame, grid, basis, precision) -> bool:
+    """True for a frame with a plane figure (a lab table); ``grid=`` is only for those,
+    ``precision="input"`` only for local axes on a body."""
     check_choice("grid", grid, GRIDS)
-    if isinstance(getattr(frame, "figure", None), Plane):
+    check_choice("precision", precision, PRECISIONS)
+    plane = isinstance(getattr(frame, "figure", None), Plane)
+    if precision != "float64" and (plane or basis != "local"):
+        where = f"frame {frame.name!r} (a plane)" if plane else f"basis={basis!r}"
+        raise ConventionError(
+            f"precision={precision!r} rounds the eastward components of basis='local' "
+            f"on a body as they are computed; {where} computes float64 only",
+            variable="precision",
+            expected="'float64' here",
+            found=repr(precision),
+        )
+    if plane:
         if basis != "local":
             raise ConventionError(
                 f"frame {frame.name!r} is a plane (a lab table): its fields stay on the "
@@ -206,7 +229,7 @@ def _planar(frame, grid, basis) -> bool:
 
 
 def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
-             latitude, longitude, vertical, time) -> xr.Dataset:
+             latitude, longitude, vertical, time, precision) -> xr.Dataset:
     require_dataset(ds)
     check_choice("basis", basis, BASES)
     check_choice("celestial", celestial, CELESTIAL_AXES)
@@ -228,5 +251,5 @@ def _convert(ds, frame, target, basis, velocity, height, celestial, dut1,
     layout = read_layout(ds, velocity, latitude=latitude, longitude=longitude,
                          vertical=vertical, time=time, height=height, target=target)
     if basis == "local":
-        return convert_local(ds, frame, target, layout)
+        return convert_local(ds, frame, target, layout, precision)
     return to_cartesian(ds, frame, layout, celestial, dut1)

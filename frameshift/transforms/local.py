@@ -21,8 +21,9 @@ from frameshift.detect import (
     position_values,
     time_instants,
 )
-from frameshift.errors import MissingInputError
+from frameshift.errors import MissingInputError, check_choice
 from frameshift.frames import Frame
+from frameshift.storage import PRECISIONS, stored_precision
 
 __all__ = ["CHANGED_RANGE_ATTRS", "convert_local", "stamped"]
 
@@ -30,12 +31,21 @@ __all__ = ["CHANGED_RANGE_ATTRS", "convert_local", "stamped"]
 CHANGED_RANGE_ATTRS = ("valid_min", "valid_max", "valid_range", "actual_range")
 
 
-def convert_local(ds: xr.Dataset, frame: Frame, target: str, layout: Layout) -> xr.Dataset:
-    """Every velocity set of ``layout`` converted to ``target`` on local axes."""
+def convert_local(ds: xr.Dataset, frame: Frame, target: str, layout: Layout,
+                  precision: str = "float64") -> xr.Dataset:
+    """Every velocity set of ``layout`` converted to ``target`` on local axes.
+
+    ``precision="input"``: each new eastward component is rounded, as it is
+    computed, to the precision its input is stored in
+    (:func:`frameshift.storage.stored_precision`); the addition is float64 either way.
+    """
+    check_choice("precision", precision, PRECISIONS)
     sign = 1.0 if target == INERTIAL else -1.0
     new_data = {}
     for vset in layout.sets:
-        new_data[vset.eastward] = _new_eastward(ds, frame, vset, sign)
+        east = ds.variables[vset.eastward]
+        dtype = stored_precision(east) if precision == "input" else np.dtype(np.float64)
+        new_data[vset.eastward] = _new_eastward(ds, frame, vset, sign, dtype)
     names = {c.name for s in layout.sets for c in s.components}
     if names <= set(ds.data_vars):
         # one shallow copy with the new eastward data; the metadata of the copied
@@ -76,7 +86,8 @@ def convert_local(ds: xr.Dataset, frame: Frame, target: str, layout: Layout) -> 
     return stamped(out, f"{op}(basis='local', frame={frame.name!r}) on {listing}")
 
 
-def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float):
+def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float,
+                  dtype: np.dtype):
     east = ds.variables[vset.eastward]
     lat, _ = position_values(ds, vset.position)
     h = height_values(ds, vset.position, floor=floor_of(frame))
@@ -103,8 +114,10 @@ def _new_eastward(ds: xr.Dataset, frame: Frame, vset: VelocitySet, sign: float):
         # put in the small position-only term, so the field gets it in the one addition
         shift = mask_poles(shift, lat, repr(vset.eastward), sizes=east.sizes)
     # Variables broadcast by dimension name without index alignment (the
-    # position arrays are the Dataset's own coordinates)
-    new = xr.Variable(east.dims, east.data) + shift.variable
+    # position arrays are the Dataset's own coordinates); the one full-size pass,
+    # rounded in it to ``dtype``
+    new = apply_kernel(vk.shifted, xr.DataArray(xr.Variable(east.dims, east.data)),
+                       xr.DataArray(shift.variable), kwargs={"dtype": dtype}, dtype=dtype)
     return new.transpose(*east.dims).data
 
 
