@@ -12,12 +12,14 @@ writes, untouched variables copied as stored, manifests) is in
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import datetime as _dt
 import logging
 import os
 import signal
 import sys
 import time
+import warnings
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -30,6 +32,7 @@ from frameshift.cf_references import reconcile
 from frameshift.errors import (
     ConventionError,
     FrameshiftError,
+    FrameshiftWarning,
     MissingInputError,
     UnsupportedInputError,
     check_choice,
@@ -347,6 +350,12 @@ class Outcome:
     seconds: float = 0.0
     signum: int | None = None  # the signal that interrupted the run, if any
     sets: int = 0
+    warnings: tuple[str, ...] = ()  # what the job warned of, one line each
+
+    def warning_lines(self) -> list[str]:
+        """One line per warning, naming the input (control characters escaped)."""
+        source = ", ".join(map(str, self.job.inputs))
+        return [printable(f"warning: {source}: {w}") for w in self.warnings]
 
     def line(self) -> str:
         """One line for the summary (control characters in names escaped)."""
@@ -501,8 +510,42 @@ def process(
 ) -> Outcome:
     """Make one output; any error becomes a ``failed`` :class:`Outcome` (never a partial file).
 
+    Warnings raised on the way (NaN at the poles, a library's note on the
+    file) are kept on the outcome as one sentence each (``Outcome.warnings``),
+    for the runner to print beside the file they concern.
     ``KeyboardInterrupt`` is not caught: it propagates once the temporary file is gone.
     """
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        outcome = _process(job, operation, options, client=client, parallel=parallel,
+                           bar_factory=bar_factory)
+    said = dict.fromkeys(_warning_text(w) for w in caught
+                         if not issubclass(w.category, _DEVELOPER_WARNINGS))
+    if said:
+        outcome = dataclasses.replace(outcome, warnings=tuple(said))
+    return outcome
+
+
+#: Warnings for the authors of code, not for someone running a command.
+_DEVELOPER_WARNINGS = (DeprecationWarning, PendingDeprecationWarning)
+
+
+def _warning_text(w: warnings.WarningMessage) -> str:
+    text = " ".join(str(w.message).split())
+    if issubclass(w.category, FrameshiftWarning):
+        return text
+    return f"{text} ({w.category.__name__})"
+
+
+def _process(
+    job: Job,
+    operation: Operation,
+    options: RunOptions,
+    *,
+    client: object | None,
+    parallel: int,
+    bar_factory: Callable | None,
+) -> Outcome:
     fmt = output_format(job.output, options.output_format)
     settings = {"command": operation.command, **operation.settings,
                 "precision": options.precision, "format": fmt}
@@ -643,6 +686,8 @@ def run(
                 break
             summary.outcomes.append(outcome)
             files_bar.update(1)
+            for line in outcome.warning_lines():  # shown even with --quiet, as failures are
+                files_bar.write(line, file=sys.stderr)
             if not options.quiet and outcome.status != "failed":
                 files_bar.write(outcome.line(), file=sys.stdout)
             if outcome.status == "failed" and options.fail_fast:

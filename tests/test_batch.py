@@ -263,3 +263,21 @@ def test_360_day_calendar_time_is_copied_as_stored(tmp_path):
             assert_same_stored(a[name], b[name])
         np.testing.assert_array_equal(a["v"][:], b["v"][:])  # northward: values unchanged
         assert b["time"].calendar == "360_day"
+
+
+def test_convert_rounds_to_the_runs_precision_and_others_ignore_it():
+    # the run's storage precision reaches the operations registered as rounding
+    # (convert, local basis): float32 in gives float32 computed, in the one pass;
+    # terms are computed in float64 whatever it is, and narrowed on writing
+    from tests.helpers import grid_dataset
+
+    ds = grid_dataset()
+    ds["ua"] = ds["ua"].astype(np.float32)
+    converted = batch.convert_operation().apply(ds, precision="input")
+    assert converted["ua"].dtype == np.float32
+    assert batch.convert_operation().apply(ds, precision="float64")["ua"].dtype == np.float64
+    cartesian = batch.convert_operation(basis="cartesian").apply(ds, precision="input")
+    assert cartesian["velocity"].dtype == np.float64  # not a rounding case: left to storage
+    assert "convert" in batch.ROUNDING and "terms" not in batch.ROUNDING
+    terms = batch.terms_operation().apply(ds, precision="input")
+    assert terms["coriolis_eastward"].dtype == np.float64

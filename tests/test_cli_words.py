@@ -150,3 +150,25 @@ def test_terms_record_their_settings(tmp_path):
         assert ds["coriolis_upward"].encoding["dtype"] == "float64"
         assert ds["coriolis_upward"].attrs["storage_precision"].startswith("float64 (as asked)")
     assert_cf_clean(path)  # IOOS compliance checker, cf:1.11
+
+
+@pytest.mark.parametrize("quiet", [False, True])
+def test_warnings_are_one_line_naming_the_file(tmp_path, capsys, quiet):
+    # A pole row (latitude ±90°) gives NaN east components there, and says so: as a
+    # line naming the input, not Python's warning with a source line, and with --quiet too
+    # (a failure is shown with --quiet; a warning about the data is as much the user's)
+    import numpy as np
+
+    from tests.helpers import grid_dataset
+
+    ds = grid_dataset(nlat=3)
+    ds = ds.assign_coords(lat=("lat", np.array([-90.0, 0.0, 90.0]), ds["lat"].attrs))
+    path = tmp_path / "with_poles.nc"
+    ds.to_netcdf(path)
+    args = ["convert", path, "--out", tmp_path / "o"] + (["--quiet"] if quiet else [])
+    assert _run(*args) == 0
+    err = capsys.readouterr().err
+    lines = [line for line in err.splitlines() if line.startswith("warning:")]
+    assert len(lines) == 1, err
+    assert lines[0].startswith(f"warning: {path}: ") and "pole" in lines[0]
+    assert ".py:" not in err and "Warning:" not in err  # no Python warning format

@@ -311,3 +311,49 @@ def test_the_set_still_to_convert_is_found_where_another_set_was_left_alone(layo
     back = frameshift.to_rotating(out)  # only the winds are inertial: no choice needed
     np.testing.assert_allclose(back["ua"].values, ds["ua"].values, rtol=1e-12)
     assert back["uo"].attrs == ds["uo"].attrs
+
+
+@all_kinds
+@eager_and_chunked
+def test_precision_input_rounds_once_what_float64_computes(kind, layout):
+    # precision="input": the same float64 sum, rounded once to the input's float32
+    # (IEEE 754 round to nearest), made in the one pass over the data
+    ds = as_layout(BUILDERS[kind](), layout)
+    east = _names(ds)
+    ds[east] = ds[east].astype(np.float32)
+    ds[east].encoding = {"dtype": np.dtype(np.float32)}
+    before = ds.copy(deep=True)
+    with raise_if_dask_computes():
+        narrow = frameshift.to_inertial(ds, precision="input")
+    wide = frameshift.to_inertial(ds)
+    assert narrow[east].dtype == np.float32 and wide[east].dtype == np.float64
+    assert (narrow[east].chunks is None) == (ds[east].chunks is None)  # lazy stays lazy
+    np.testing.assert_array_equal(narrow[east].values, wide[east].values.astype(np.float32))
+    assert narrow[east].attrs == wide[east].attrs
+    xr.testing.assert_identical(ds.compute(), before)
+    back = frameshift.to_rotating(narrow, precision="input")
+    # float32 twice: within 2 ulp of the largest inertial value (in the variable's own
+    # units) of where it started (IEEE 754 binary32: unit roundoff 2^-24, spacing 2^-23)
+    bound = 2 * 2.0**-23 * float(abs(wide[east]).max())
+    np.testing.assert_allclose(back[east].values, before[east].values, rtol=0, atol=bound)
+
+
+def test_precision_input_keeps_float64_for_float64_input():
+    ds = BUILDERS["grid"]()
+    np.testing.assert_array_equal(frameshift.to_inertial(ds, precision="input")["ua"].values,
+                                  frameshift.to_inertial(ds)["ua"].values)
+
+
+@pytest.mark.parametrize("case", ["cartesian", "plane", "unknown"])
+def test_precision_input_is_refused_where_it_would_do_nothing(case):
+    ds = BUILDERS["grid"]()
+    if case == "cartesian":
+        call = dict(basis="cartesian", precision="input")
+    elif case == "plane":
+        call = dict(frame=frameshift.RotatingTable("10 rpm"), precision="input")
+    else:
+        call = dict(precision="float32")
+    with pytest.raises(frameshift.ConventionError) as info:
+        frameshift.to_inertial(ds, **call)
+    assert info.value.variable == "precision"
+    assert isinstance(info.value, ValueError)

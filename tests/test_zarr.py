@@ -163,3 +163,73 @@ def test_zarr_input_stays_lazy(stores):
                                          dut1=None).apply(ds)
         plan, how = io.prepare_output(result, ds, raw, target="zarr")
     assert all(plan[n].chunks for n, h in how.items() if h == "computed" and plan[n].ndim)
+
+
+def test_store_files_are_synced_as_written_and_not_twice(tmp_path, monkeypatch):
+    # Durability before the rename (common practice: fsync, then rename into place):
+    # every file of the store is synced, the chunks while the rest is still written
+    # (on the sync threads), none a second time in the final pass.
+    import threading
+
+    synced: list[tuple[Path, str]] = []
+    real = safefiles._fsync_file
+
+    def spy(path):
+        synced.append((Path(path), threading.current_thread().name))
+        return real(path)
+
+    monkeypatch.setattr(safefiles, "_fsync_file", spy)
+    ds = xr.Dataset({"a": (("t", "x"), np.arange(40.0).reshape(8, 5))}).chunk({"t": 1})
+    target = tmp_path / "a.zarr"
+    io.write_store_atomic(ds, target)
+    monkeypatch.undo()
+    store_files = {p.relative_to(target) for p in target.rglob("*") if p.is_file()}
+    # synced under the temporary name, a sibling of the target, before the rename
+    inside = [(Path(*p.relative_to(tmp_path).parts[1:]), t) for p, t in synced]
+    assert store_files <= {p for p, _ in inside}  # every file synced
+    chunks = [(p, t) for p, t in inside if p.parent.name == "a" and not p.name.startswith(".")]
+    assert len(chunks) == 8 == len({p for p, _ in chunks})  # each chunk once
+    assert all(t.startswith("frameshift-sync") for _, t in chunks)  # while writing
+    with xr.open_zarr(target) as back:
+        np.testing.assert_array_equal(back["a"].values, ds["a"].values)
+
+
+def test_sync_ahead_counts_a_file_by_its_last_sync(tmp_path):
+    kept, gone = tmp_path / "kept", tmp_path / "gone"
+    kept.write_bytes(b"1")
+    gone.write_bytes(b"2")
+    with safefiles.SyncAhead() as ahead:
+        ahead.submit(kept)
+        ahead.submit(gone)
+        done_first = ahead._pending[-1][1].result()  # synced while it was there
+        gone.unlink()
+        ahead.submit(gone)  # written again and removed: the final pass decides
+        assert ahead.finish() == frozenset({kept})
+    assert done_first
+
+
+def test_a_store_sent_to_a_worker_process_is_a_plain_store(tmp_path):
+    import pickle
+
+    from zarr.storage import LocalStore
+
+    with safefiles.SyncAhead() as ahead:
+        store = io._syncing_store_class()(tmp_path / "s.zarr", ahead=ahead)
+        there = pickle.loads(pickle.dumps(store))
+    assert type(there) is LocalStore and Path(there.root) == tmp_path / "s.zarr"
+
+
+def test_a_store_written_by_worker_processes_is_the_serial_store(tmp_path):
+    # --workers 2: the store's files are written in other processes, unseen by the
+    # sync threads; the final pass syncs them, and the result is the same store
+    op = batch.convert_operation()
+    opts = dict(progress=False, quiet=True, output_format="zarr", memory=10**5)
+    batch.run([DEMO / "balloon_track.nc"], op, batch.RunOptions(out_dir=tmp_path / "s", **opts))
+    summary = batch.run([DEMO / "balloon_track.nc"], op,
+                        batch.RunOptions(out_dir=tmp_path / "c", workers=2, **opts))
+    assert [o.status for o in summary.outcomes] == ["written"]
+    with xr.open_zarr(tmp_path / "s" / "balloon_track.zarr") as a, \
+            xr.open_zarr(tmp_path / "c" / "balloon_track.zarr") as b:
+        xr.testing.assert_identical(a.drop_attrs(), b.drop_attrs())
+        for name in a.variables:
+            np.testing.assert_array_equal(a[name].values, b[name].values)
