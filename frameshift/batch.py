@@ -330,6 +330,7 @@ class RunOptions:
     progress: bool | None = None  # None: only when stderr is a terminal and not quiet
     precision: str = "input"  # storage of computed variables: the input's, or "float64"
     output_format: str | None = None  # "netcdf" or "zarr"; None: by the output's suffix
+    sync: bool = True  # outputs synced to disk before they are renamed into place
 
     def show_progress(self) -> bool:
         if self.quiet:
@@ -566,7 +567,7 @@ def _process(
             manifest = {"inputs": job.inputs, "settings": settings,
                         "command": options.command, "checksum": options.verify}
             write = io.write_store_atomic if fmt == "zarr" else io.write_atomic
-            write(to_write, job.output, manifest=manifest,
+            write(to_write, job.output, manifest=manifest, sync=options.sync,
                   compute=_computer(client, bar_factory or _no_bar))
         finally:
             ds.close()

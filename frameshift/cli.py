@@ -224,6 +224,12 @@ def _common(parser: argparse.ArgumentParser, *, writes: bool = True) -> None:
                         help="how computed variables are stored: 'input' (the input's "
                         "precision: float32 from float32 or packed 16-bit integers, else "
                         "float64) or 'float64'; computing is always float64 (default input)")
+    parser.add_argument("--no-sync", action="store_false", dest="sync",
+                        help="do not sync outputs to disk before renaming them into place: "
+                        "quicker where syncing is slow (network and parallel file systems); "
+                        "a failed or interrupted run still leaves nothing, but a power cut "
+                        "or system crash soon after may leave an empty or partial output "
+                        "under its final name (default: sync)")
     parser.add_argument("--format", choices=("netcdf", "zarr"), default=None, dest="format",
                         help="output format: 'netcdf' (*.nc files) or 'zarr' (*.zarr "
                         "directory stores, needs the zarr extra); default: the input's")
@@ -389,6 +395,7 @@ def _options(args: argparse.Namespace, command: str) -> RunOptions:
         verify=args.checksum,
         precision=args.precision,
         output_format=args.format,
+        sync=args.sync,
     )
 
 

@@ -19,6 +19,7 @@ import contextlib
 import functools
 import math
 import os
+import threading
 import warnings
 from collections.abc import Callable, Mapping, Sequence
 from concurrent.futures import ThreadPoolExecutor
@@ -28,7 +29,12 @@ import numpy as np
 import xarray as xr
 
 from frameshift import safefiles
-from frameshift.errors import ConventionError, MissingInputError, UnsupportedInputError
+from frameshift.errors import (
+    ConventionError,
+    MissingInputError,
+    UnsupportedInputError,
+    WriteError,
+)
 from frameshift.storage import (
     DISK_CHUNK_BYTES,
     decode_labels,
@@ -354,6 +360,7 @@ def write_atomic(
     *,
     compute: Callable[[object], object] | None = None,
     manifest: Mapping | None = None,
+    sync: bool = True,
 ) -> Path:
     """Write ``ds`` to ``path`` so that ``path`` only ever holds a complete file.
 
@@ -367,7 +374,8 @@ def write_atomic(
     any failure, ``KeyboardInterrupt`` included, the temporary files are
     removed and the error re-raised (a full disk or unwritable folder as
     :class:`~frameshift.errors.WriteError`); an existing file at ``path`` is
-    left as it was.
+    left as it was. ``sync=False`` skips syncing to disk before the rename (see
+    :func:`frameshift.safefiles.publish`).
 
     Examples
     --------
@@ -377,27 +385,20 @@ def write_atomic(
     """
 
     def write(tmp: Path) -> None:
-        # a pool of our own for Dask's threaded scheduler (other schedulers ignore it): if
-        # a chunk fails, the chunks still being written finish before the file is closed
-        import dask
-        from dask.system import CPU_COUNT
-
-        pool = ThreadPoolExecutor(max(1, int(CPU_COUNT)), thread_name_prefix="frameshift-write")
-        try:
-            with dask.config.set(pool=pool):
+        # if a chunk fails, the chunks still being written finish before the file is closed
+        with _own_pool() as pool:
+            try:
                 delayed = ds.to_netcdf(tmp, mode="w", engine="netcdf4", compute=False)
                 if compute is None:
                     delayed.compute()
                 else:
                     compute(delayed)
-        except BaseException:
-            pool.shutdown(wait=True, cancel_futures=True)
-            _close_open_file(tmp)
-            raise
-        finally:
-            pool.shutdown(wait=False)
+            except BaseException:
+                pool.shutdown(wait=True, cancel_futures=True)
+                _close_open_file(tmp)
+                raise
 
-    return safefiles.publish(write, path, manifest=manifest)
+    return safefiles.publish(write, path, manifest=manifest, sync=sync)
 
 
 def write_store_atomic(
@@ -406,6 +407,7 @@ def write_store_atomic(
     *,
     compute: Callable[[object], object] | None = None,
     manifest: Mapping | None = None,
+    sync: bool = True,
 ) -> Path:
     """Write ``ds`` as a Zarr store at ``path``, whole or not at all (with its manifest).
 
@@ -416,6 +418,7 @@ def write_store_atomic(
     the rest is still computed (:class:`frameshift.safefiles.SyncAhead`), so
     the disk works during the computation instead of after it; files written
     by other processes (a distributed cluster's workers) are synced at the end.
+    ``sync=False`` syncs nothing (see :func:`frameshift.safefiles.publish`).
 
     Examples
     --------
@@ -427,17 +430,40 @@ def write_store_atomic(
 
     def write(tmp: Path) -> frozenset[Path]:
         tmp.unlink(missing_ok=True)  # the temporary name was held by an empty file
-        with safefiles.SyncAhead() as ahead:
-            store = _syncing_store_class()(tmp, ahead=ahead)
-            delayed = ds.to_zarr(store, mode="w", compute=False, consolidated=True,
-                                 zarr_format=ZARR_FORMAT)
-            if compute is None:
-                delayed.compute()
-            else:
-                compute(delayed)
+        with safefiles.SyncAhead() as ahead, _own_pool() as pool:
+            store = _syncing_store_class()(tmp, ahead=ahead if sync else None)
+            try:
+                delayed = ds.to_zarr(store, mode="w", compute=False, consolidated=True,
+                                     zarr_format=ZARR_FORMAT)
+                if compute is None:
+                    delayed.compute()
+                else:
+                    compute(delayed)
+            except BaseException:
+                # no new file is begun, and those being written are finished, before the
+                # store is removed: a late one would make its folders again afterwards
+                store.stop()
+                pool.shutdown(wait=True, cancel_futures=True)
+                store.wait_idle()
+                raise
             return ahead.finish()
 
-    return safefiles.publish(write, path, manifest=manifest)
+    return safefiles.publish(write, path, manifest=manifest, sync=sync)
+
+
+@contextlib.contextmanager
+def _own_pool():
+    """A thread pool of our own for Dask's threaded scheduler (others ignore it), so
+    that a failed write can wait for the chunks still being written."""
+    import dask
+    from dask.system import CPU_COUNT
+
+    pool = ThreadPoolExecutor(max(1, int(CPU_COUNT)), thread_name_prefix="frameshift-write")
+    try:
+        with dask.config.set(pool=pool):
+            yield pool
+    finally:
+        pool.shutdown(wait=False)
 
 
 @functools.cache
@@ -450,11 +476,35 @@ def _syncing_store_class() -> type:
                      ahead: safefiles.SyncAhead | None = None) -> None:
             super().__init__(Path(root), read_only=read_only)
             self._ahead = ahead
+            self._stopped = False
+            self._busy = 0
+            self._idle = threading.Condition()
 
         async def set(self, key: str, value: object) -> None:
-            await super().set(key, value)  # returns once the file is whole under its name
+            with self._idle:
+                if self._stopped:
+                    raise WriteError(f"the write of {os.fspath(self.root)!r} was stopped",
+                                     variable=key, expected="a write in progress",
+                                     found="stopped after a failure")
+                self._busy += 1
+            try:
+                await super().set(key, value)  # returns once the file is whole
+            finally:
+                with self._idle:
+                    self._busy -= 1
+                    self._idle.notify_all()
             if self._ahead is not None:
                 self._ahead.submit(self.root / key)
+
+        def stop(self) -> None:
+            """Refuse every file not yet begun (after a failure elsewhere)."""
+            with self._idle:
+                self._stopped = True
+
+        def wait_idle(self, timeout: float = 60.0) -> None:
+            """Wait for the files being written (zarr writes some on its own threads)."""
+            with self._idle:
+                self._idle.wait_for(lambda: self._busy == 0, timeout)
 
         def __reduce__(self) -> tuple:
             # sent to another process (a cluster's worker): a plain store there,

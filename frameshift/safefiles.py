@@ -262,14 +262,15 @@ def manifest_record(
     return record
 
 
-def _write_json(record: dict, final: Path) -> Path:
+def _write_json(record: dict, final: Path, *, sync: bool = True) -> Path:
     tmp = _temp_file(final)
     try:
         with open(tmp, "w") as fh:
             json.dump(record, fh, indent=1, sort_keys=True)
             fh.write("\n")
             fh.flush()
-            os.fsync(fh.fileno())
+            if sync:
+                os.fsync(fh.fileno())
         os.chmod(tmp, 0o666 & ~_umask())
     except BaseException:
         with contextlib.suppress(OSError):
@@ -367,6 +368,7 @@ def publish(
     path: str | os.PathLike,
     *,
     manifest: Mapping | None = None,
+    sync: bool = True,
 ) -> Path:
     """Make ``path`` with ``write(temporary_path)``, and its manifest, both or neither.
 
@@ -378,6 +380,10 @@ def publish(
     and a file-system cause is raised as :class:`~frameshift.errors.WriteError`.
     ``write`` may return the files of a store it has already synced itself
     (see :class:`SyncAhead`); those are not synced a second time.
+    ``sync=False`` syncs nothing: a failure or interruption still leaves
+    nothing under ``path``, but after a power cut or system crash the renamed
+    output may be empty or partial (for scratch outputs, or file systems where
+    syncing is slow).
     """
     path = Path(path)
     what = repr(os.fspath(path))
@@ -389,11 +395,12 @@ def publish(
     side = aside = None
     try:
         synced = write(tmp)  # a file, or (a Zarr store) a directory in place of the empty file
-        _flush(tmp, skip=frozenset(synced or ()))
+        if sync:
+            _flush(tmp, skip=frozenset(synced or ()))
         os.chmod(tmp, (0o777 if tmp.is_dir() else 0o666) & ~_umask())
         if manifest is not None:
             record = manifest_record(path, data_file=tmp, **manifest)
-            side = _write_json(record, manifest_path(path))
+            side = _write_json(record, manifest_path(path), sync=sync)
         else:
             manifest_path(path).unlink(missing_ok=True)
         if path.is_dir() and not path.is_symlink():  # a store cannot be renamed over
@@ -430,7 +437,8 @@ def publish(
         if aside is not None:
             with contextlib.suppress(OSError):
                 _remove(aside)
-    _flush_dir(path.parent)
+    if sync:
+        _flush_dir(path.parent)
     return path
 
 

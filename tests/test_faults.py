@@ -222,7 +222,7 @@ def test_disk_full_while_writing_data_is_said_plainly(tmp_path, monkeypatch):
 
 def test_manifest_that_does_not_fit_leaves_no_output(tmp_path, monkeypatch):
     # the case: the run said FAILED but the output stood under its final name
-    def full(record, final):
+    def full(record, final, **kwargs):
         raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(final))
 
     monkeypatch.setattr(safefiles, "_write_json", full)

@@ -233,3 +233,40 @@ def test_a_store_written_by_worker_processes_is_the_serial_store(tmp_path):
         xr.testing.assert_identical(a.drop_attrs(), b.drop_attrs())
         for name in a.variables:
             np.testing.assert_array_equal(a[name].values, b[name].values)
+
+
+@pytest.mark.parametrize("fmt", ["zarr", "netcdf"])
+def test_no_sync_syncs_nothing_and_still_publishes_whole(tmp_path, monkeypatch, capsys, fmt):
+    # --no-sync: no fsync at all (for scratch outputs, or file systems where it is
+    # slow); the rename into place, the manifest and skipping on re-runs are unchanged
+    calls = []
+    monkeypatch.setattr(safefiles.os, "fsync", lambda fd: calls.append(fd))
+    if hasattr(safefiles.os, "fdatasync"):
+        monkeypatch.setattr(safefiles.os, "fdatasync", lambda fd: calls.append(fd))
+    args = ["convert", DEMO / "tiny_example.nc", "--format", fmt, "--out", tmp_path / "o"]
+    assert _run(*args, "--no-sync") == 0
+    assert calls == []
+    out = tmp_path / "o" / f"tiny_example.{'zarr' if fmt == 'zarr' else 'nc'}"
+    assert io.manifest_path(out).is_file()
+    assert sorted(p.name for p in (tmp_path / "o").iterdir()) == sorted(
+        [out.name, io.manifest_path(out).name])  # nothing temporary left
+    monkeypatch.undo()
+    capsys.readouterr()
+    assert main([*map(str, args)]) == 0  # synced or not, the same output: skipped
+    assert "skipped" in capsys.readouterr().out
+
+
+def test_no_sync_failure_still_leaves_nothing(tmp_path, monkeypatch):
+    class Boom(RuntimeError):
+        pass
+
+    def fail(*args, **kwargs):
+        raise Boom("injected failure mid-write")
+
+    ds = xr.Dataset({"a": ("x", np.arange(4.0))}).chunk({"x": 2})
+    monkeypatch.setattr(io.os, "replace", fail)
+    for write, name in ((io.write_store_atomic, "a.zarr"), (io.write_atomic, "a.nc")):
+        with pytest.raises(Boom):
+            write(ds, tmp_path / name, sync=False,
+                  manifest={"inputs": [], "settings": {}, "command": "test"})
+    assert list(tmp_path.iterdir()) == []
