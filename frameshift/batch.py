@@ -132,8 +132,8 @@ class Operation:
 
 def _convert(ds: xr.Dataset, *, to: str, precision: str = "float64",
              **settings) -> xr.Dataset:
-    from frameshift.frames import Plane
-    from frameshift.transforms import to_inertial, to_rotating
+    from frameshift.frames import EARTH
+    from frameshift.transforms import rounds_as_computed, to_inertial, to_rotating
 
     s = _named_frame(ds, dict(settings))
     from frameshift.transforms.cartesian import DUT1_ATTR, is_cartesian, recorded
@@ -150,8 +150,8 @@ def _convert(ds: xr.Dataset, *, to: str, precision: str = "float64",
     if s.get("basis") == "local":
         s.pop("celestial", None)
         s.pop("dut1", None)
-        if not isinstance(getattr(s.get("frame"), "figure", None), Plane):
-            s["precision"] = precision  # rounded as computed: no float64 copy to narrow
+    if rounds_as_computed(s.get("frame", EARTH), s.get("basis", "local")):
+        s["precision"] = precision  # rounded as computed: no float64 copy to narrow
     return (to_inertial if to == "inertial" else to_rotating)(ds, **s)
 
 
@@ -355,12 +355,11 @@ class Outcome:
 
     def warning_lines(self) -> list[str]:
         """One line per warning, naming the input (control characters escaped)."""
-        source = ", ".join(map(str, self.job.inputs))
-        return [printable(f"warning: {source}: {w}") for w in self.warnings]
+        return [printable(f"warning: {self.job.source}: {w}") for w in self.warnings]
 
     def line(self) -> str:
         """One line for the summary (control characters in names escaped)."""
-        source = ", ".join(map(str, self.job.inputs))
+        source = self.job.source
         if self.status == "written":
             what = f"{self.sets} velocity set{'s' * (self.sets != 1)}, " if self.sets else ""
             text = f"wrote {self.job.output} from {source} ({what}{self.seconds:.1f} s)"
@@ -516,8 +515,7 @@ def process(
     for the runner to print beside the file they concern.
     ``KeyboardInterrupt`` is not caught: it propagates once the temporary file is gone.
     """
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
+    with warnings.catch_warnings(record=True) as caught:  # the filters in force still apply
         outcome = _process(job, operation, options, client=client, parallel=parallel,
                            bar_factory=bar_factory)
     said = dict.fromkeys(_warning_text(w) for w in caught

@@ -488,7 +488,7 @@ def failure_line(outcome: object) -> str:
     >>> failure_line(o)
     'FAILED a.nc (option --terms): --terms has no terms'
     """
-    source = ", ".join(map(str, outcome.job.inputs))
+    source = outcome.job.source
     name = outcome.variable
     where = ""
     if name in _OPTIONS:

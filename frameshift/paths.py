@@ -29,6 +29,11 @@ class Job:
     inputs: tuple[Path, ...]
     output: Path
 
+    @property
+    def source(self) -> str:
+        """The inputs as a message names them (``a.nc, b.nc``)."""
+        return ", ".join(map(str, self.inputs))
+
 
 def printable(text: str) -> str:
     r"""``text`` with control and other unprintable characters shown as escapes.

@@ -266,7 +266,9 @@ def test_360_day_calendar_time_is_copied_as_stored(tmp_path):
 
 
 def test_convert_rounds_to_the_runs_precision_and_others_ignore_it():
-    # the run's storage precision reaches the operations registered as rounding
+    # Plumbing, no outside value (the values are checked against IEEE 754 rounding in
+    # tests/test_transforms.py): the run's storage precision reaches the operations
+    # registered as rounding
     # (convert, local basis): float32 in gives float32 computed, in the one pass;
     # terms are computed in float64 whatever it is, and narrowed on writing
     from tests.helpers import grid_dataset
@@ -281,3 +283,24 @@ def test_convert_rounds_to_the_runs_precision_and_others_ignore_it():
     assert "convert" in batch.ROUNDING and "terms" not in batch.ROUNDING
     terms = batch.terms_operation().apply(ds, precision="input")
     assert terms["coriolis_eastward"].dtype == np.float64
+
+
+@pytest.mark.filterwarnings("default::frameshift.errors.FrameshiftWarning")  # Python's default
+def test_warnings_of_a_job_follow_the_filters_in_force(tmp_path):
+    # a job's warnings are kept on its outcome, one each, unless the caller's own
+    # warning filters silence them (Python's warnings module: filters decide, PEP 230)
+    import warnings
+
+    from frameshift import FrameshiftWarning
+    from tests.helpers import grid_dataset
+
+    ds = grid_dataset(nlat=3)
+    ds = ds.assign_coords(lat=("lat", np.array([-90.0, 0.0, 90.0]), ds["lat"].attrs))
+    ds.to_netcdf(tmp_path / "poles.nc")
+    op = batch.convert_operation()
+    shown = batch.run([tmp_path / "poles.nc"], op, _options(tmp_path / "a")).outcomes[0]
+    assert len(shown.warnings) == 1 and "pole" in shown.warnings[0]
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", category=FrameshiftWarning)
+        quiet = batch.run([tmp_path / "poles.nc"], op, _options(tmp_path / "b")).outcomes[0]
+    assert quiet.status == "written" and quiet.warnings == ()

@@ -152,10 +152,13 @@ def test_terms_record_their_settings(tmp_path):
     assert_cf_clean(path)  # IOOS compliance checker, cf:1.11
 
 
+@pytest.mark.filterwarnings("default::frameshift.errors.FrameshiftWarning")  # as a user runs it
 @pytest.mark.parametrize("quiet", [False, True])
 def test_warnings_are_one_line_naming_the_file(tmp_path, capsys, quiet):
     # A pole row (latitude ±90°) gives NaN east components there, and says so: as a
     # line naming the input, not Python's warning with a source line, and with --quiet too
+    # (common practice for command-line diagnostics: one line on stderr naming the file,
+    # as in the GNU Coding Standards' "Formatting Error Messages")
     # (a failure is shown with --quiet; a warning about the data is as much the user's)
     import numpy as np
 

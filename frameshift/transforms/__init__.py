@@ -27,7 +27,7 @@ from frameshift.transforms.cartesian import from_cartesian, to_cartesian
 from frameshift.transforms.local import convert_local
 from frameshift.transforms.planar import GRIDS, planar_to_inertial, planar_to_rotating
 
-__all__ = ["BASES", "to_inertial", "to_rotating"]
+__all__ = ["BASES", "rounds_as_computed", "to_inertial", "to_rotating"]
 
 BASES = ("local", "cartesian")
 
@@ -191,13 +191,24 @@ def to_rotating(
     return restore_latitudes(out, ds, names, latitude_kind, frame)
 
 
+def rounds_as_computed(frame: Frame, basis: str) -> bool:
+    """Whether a conversion takes ``precision="input"``: local axes on a body.
+
+    Examples
+    --------
+    >>> rounds_as_computed(EARTH, "local"), rounds_as_computed(EARTH, "cartesian")
+    (True, False)
+    """
+    return basis == "local" and not isinstance(getattr(frame, "figure", None), Plane)
+
+
 def _planar(frame, grid, basis, precision) -> bool:
     """True for a frame with a plane figure (a lab table); ``grid=`` is only for those,
     ``precision="input"`` only for local axes on a body."""
     check_choice("grid", grid, GRIDS)
     check_choice("precision", precision, PRECISIONS)
     plane = isinstance(getattr(frame, "figure", None), Plane)
-    if precision != "float64" and (plane or basis != "local"):
+    if precision != "float64" and not rounds_as_computed(frame, basis):
         where = f"frame {frame.name!r} (a plane)" if plane else f"basis={basis!r}"
         raise ConventionError(
             f"precision={precision!r} rounds the eastward components of basis='local' "
